@@ -1,0 +1,11 @@
+//! Physics kernels: pure functions of a channel and a parameter point (wavevector, temperature,
+//! gap). Shell geometry and integration rules are shared by all of them.
+
+pub mod integrate;
+pub mod quad;
+pub mod shell;
+pub mod susceptibility;
+pub mod weak;
+
+pub use integrate::{Accuracy, Estimate};
+pub use shell::Shell;

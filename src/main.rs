@@ -1,0 +1,26 @@
+//! The `nestor` command line: parses options, dispatches to the library, maps outcomes to exit
+//! codes (0 success, 1 a computation failed or some sweep points failed, 2 bad input).
+
+mod cli;
+
+use clap::Parser;
+use std::process::ExitCode;
+
+fn main() -> ExitCode {
+    let args = cli::Cli::parse();
+    match cli::run(args) {
+        Ok(cli::Outcome::Done) => ExitCode::SUCCESS,
+        Ok(cli::Outcome::PartlyFailed(msg)) => {
+            eprintln!("nestor: {msg}");
+            ExitCode::from(1)
+        }
+        Err(cli::Failure::Input(msg)) => {
+            eprintln!("nestor: error: {msg}");
+            ExitCode::from(2)
+        }
+        Err(cli::Failure::Computation(msg)) => {
+            eprintln!("nestor: computation failed: {msg}");
+            ExitCode::from(1)
+        }
+    }
+}

@@ -1,0 +1,313 @@
+//! The validated, frozen model: pockets, their spin structure, pairing channels and the surface
+//! lattice. Built once by [`crate::config`]; kernels and solvers only read it.
+//!
+//! Conventions (physics.md sections 1-2): energies in meV from the common chemical potential,
+//! momenta in 1/nm measured from each pocket's centre, hbar v in meV nm, masses in electron masses.
+
+pub mod pocket;
+
+pub use pocket::{Dispersion, Pocket, PocketKind, Spin};
+
+use num_complex::Complex64;
+
+/// Spin matrix M of the order parameter (physics.md section 2).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+pub enum SpinMatrix {
+    /// Charge channel, spin-conserving: M = 1.
+    #[serde(rename = "1")]
+    Identity,
+    #[serde(rename = "x")]
+    X,
+    #[serde(rename = "y")]
+    Y,
+    #[serde(rename = "z")]
+    Z,
+}
+
+impl SpinMatrix {
+    pub fn label(self) -> &'static str {
+        match self {
+            SpinMatrix::Identity => "1",
+            SpinMatrix::X => "x",
+            SpinMatrix::Y => "y",
+            SpinMatrix::Z => "z",
+        }
+    }
+
+    /// The 2x2 matrix, row-major.
+    pub fn matrix(self) -> [[Complex64; 2]; 2] {
+        let o = Complex64::new(0.0, 0.0);
+        let one = Complex64::new(1.0, 0.0);
+        let i = Complex64::new(0.0, 1.0);
+        match self {
+            SpinMatrix::Identity => [[one, o], [o, one]],
+            SpinMatrix::X => [[o, one], [one, o]],
+            SpinMatrix::Y => [[o, -i], [i, o]],
+            SpinMatrix::Z => [[one, o], [o, -one]],
+        }
+    }
+
+    fn is_diagonal(self) -> bool {
+        matches!(self, SpinMatrix::Identity | SpinMatrix::Z)
+    }
+}
+
+/// Band form factor of a channel: how W = |M_ab(k)|^2 depends on the two momenta.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum FormFactor {
+    /// W = 1: at least one pocket is spin-degenerate (physics.md section 2).
+    Unity,
+    /// Both pockets helical: W depends on the two spinor angles.
+    Helical {
+        /// s_a s_b
+        signs: f64,
+        winding_a: i32,
+        winding_b: i32,
+        /// e^{i phi_a}, e^{i phi_b}
+        phase_a: Complex64,
+        phase_b: Complex64,
+        matrix: SpinMatrix,
+    },
+}
+
+impl FormFactor {
+    /// W for spinor directions `ua` = e^{i theta_a} (pocket a at k + q) and `ub` = e^{i theta_b}
+    /// (pocket b at k).
+    #[inline]
+    pub fn weight(&self, ua: Complex64, ub: Complex64) -> f64 {
+        match *self {
+            FormFactor::Unity => 1.0,
+            FormFactor::Helical {
+                signs,
+                winding_a,
+                winding_b,
+                phase_a,
+                phase_b,
+                matrix,
+            } => {
+                // e^{i(w theta + phi)} for w = +-1.
+                let pa = phase_a * if winding_a > 0 { ua } else { ua.conj() };
+                let pb = phase_b * if winding_b > 0 { ub } else { ub.conj() };
+                // Closed forms of |<chi_a|M|chi_b>|^2 with chi = (1, s e^{i p})/sqrt(2); checked
+                // against the explicit matrix product in the tests below.
+                match matrix {
+                    SpinMatrix::Identity => 0.5 * (1.0 + signs * (pb * pa.conj()).re),
+                    SpinMatrix::Z => 0.5 * (1.0 - signs * (pb * pa.conj()).re),
+                    SpinMatrix::X => 0.5 * (1.0 + signs * (pa * pb).re),
+                    SpinMatrix::Y => 0.5 * (1.0 - signs * (pa * pb).re),
+                }
+            }
+        }
+    }
+
+    /// Whether W is the same for every k.
+    pub fn is_constant(&self) -> bool {
+        matches!(self, FormFactor::Unity)
+    }
+
+    /// Whether W is unchanged when both momenta rotate together (so chi(q) depends on |q| only for
+    /// circular pockets).
+    pub fn is_rotation_invariant(&self) -> bool {
+        match *self {
+            FormFactor::Unity => true,
+            FormFactor::Helical {
+                winding_a,
+                winding_b,
+                matrix,
+                ..
+            } => {
+                if matrix.is_diagonal() {
+                    winding_a == winding_b
+                } else {
+                    winding_a == -winding_b
+                }
+            }
+        }
+    }
+}
+
+/// How the coupling was given in the configuration.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub enum CouplingInput {
+    Lambda(f64),
+    G(f64),
+}
+
+/// A pairing channel between an electron-like pocket `a` and a hole-like pocket `b`.
+#[derive(Debug, Clone)]
+pub struct Channel {
+    /// Optional user name (used by `--set NAME.key=value`).
+    pub name: Option<String>,
+    /// Display label: the name, or "A-B".
+    pub label: String,
+    /// Index of the electron-like pocket.
+    pub a: usize,
+    /// Index of the hole-like pocket.
+    pub b: usize,
+    /// Contact coupling g > 0 in meV nm^2 (attractive), per spin channel.
+    pub g: f64,
+    /// What the user gave.
+    pub coupling_input: CouplingInput,
+    /// Shell half-width Lambda in meV: |xi_k| < Lambda.
+    pub cutoff: f64,
+    pub spin_matrix: SpinMatrix,
+    /// Orbital overlap factor m_ab for the density modulation (default 1).
+    pub overlap: f64,
+    /// Number of equivalent spin channels: 2 for two degenerate pockets, else 1.
+    pub spin_channels: f64,
+    pub form: FormFactor,
+    /// Pair density of states nu_ab per spin channel at q = 0, 1/(meV nm^2).
+    pub nu: f64,
+    /// Mismatch h on the nesting line (meV), with its minimum and maximum along the line.
+    pub mismatch: f64,
+    pub mismatch_range: [f64; 2],
+}
+
+impl Channel {
+    /// Dimensionless coupling lambda = g nu_ab.
+    pub fn lambda(&self) -> f64 {
+        self.g * self.nu
+    }
+    /// Nesting vector K_a - K_b (1/nm), given the model's pockets.
+    pub fn nesting_vector(&self, model: &Model) -> [f64; 2] {
+        let (ka, kb) = (model.pockets[self.a].center, model.pockets[self.b].center);
+        [ka[0] - kb[0], ka[1] - kb[1]]
+    }
+}
+
+/// Real-space lattice of the surface, for folding wavevectors into the first zone.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub enum Lattice {
+    Square { a: f64 },
+    Rectangular { a: f64, b: f64 },
+    Hexagonal { a: f64 },
+}
+
+/// The frozen model.
+#[derive(Debug, Clone)]
+pub struct Model {
+    pub pockets: Vec<Pocket>,
+    pub channels: Vec<Channel>,
+    pub surface: Option<Lattice>,
+    /// Legal but questionable input, to be shown to the user.
+    pub warnings: Vec<String>,
+}
+
+impl Model {
+    pub fn pocket_a(&self, c: &Channel) -> &Pocket {
+        &self.pockets[c.a]
+    }
+    pub fn pocket_b(&self, c: &Channel) -> &Pocket {
+        &self.pockets[c.b]
+    }
+}
+
+/// Form factor of the pair (a, b) for spin matrix `m` (physics.md section 2).
+pub fn form_factor(a: &Pocket, b: &Pocket, m: SpinMatrix) -> FormFactor {
+    match (a.spin, b.spin) {
+        (
+            Spin::Helical {
+                winding: wa,
+                phase: pa,
+            },
+            Spin::Helical {
+                winding: wb,
+                phase: pb,
+            },
+        ) => FormFactor::Helical {
+            signs: a.carrier_sign() * b.carrier_sign(),
+            winding_a: wa,
+            winding_b: wb,
+            phase_a: Complex64::from_polar(1.0, pa),
+            phase_b: Complex64::from_polar(1.0, pb),
+            matrix: m,
+        },
+        _ => FormFactor::Unity,
+    }
+}
+
+/// Number of equivalent spin channels: 2 when both pockets are spin-degenerate.
+pub fn spin_channels(a: &Pocket, b: &Pocket) -> f64 {
+    if matches!(a.spin, Spin::Degenerate) && matches!(b.spin, Spin::Degenerate) {
+        2.0
+    } else {
+        1.0
+    }
+}
+
+/// The matrix element M_ab = <chi_a(theta_a)| M |chi_b(theta_b)> for two helical spinors,
+/// chi = (1, s e^{i(w theta + phi)})/sqrt(2). Used to check the closed forms and by the N x N
+/// mean field.
+pub fn helical_matrix_element(sa: f64, pa: f64, sb: f64, pb: f64, m: SpinMatrix) -> Complex64 {
+    let r = std::f64::consts::FRAC_1_SQRT_2;
+    let chi_a = [Complex64::new(r, 0.0), Complex64::from_polar(r, pa) * sa];
+    let chi_b = [Complex64::new(r, 0.0), Complex64::from_polar(r, pb) * sb];
+    let mm = m.matrix();
+    let mut acc = Complex64::new(0.0, 0.0);
+    for i in 0..2 {
+        for j in 0..2 {
+            acc += chi_a[i].conj() * mm[i][j] * chi_b[j];
+        }
+    }
+    acc
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The closed forms in `FormFactor::weight` equal |<chi_a|M|chi_b>|^2 from the explicit
+    /// spinors (an independent route: matrix algebra instead of trigonometry). Absolute 1e-14:
+    /// both are O(1) sums of a few terms.
+    #[test]
+    fn closed_form_weights_match_matrix_elements() {
+        let e = |t: f64| Complex64::from_polar(1.0, t);
+        for m in [
+            SpinMatrix::Identity,
+            SpinMatrix::X,
+            SpinMatrix::Y,
+            SpinMatrix::Z,
+        ] {
+            for (sa, sb) in [(1.0, -1.0), (1.0, 1.0), (-1.0, -1.0)] {
+                for (wa, wb) in [(1, 1), (1, -1), (-1, 1)] {
+                    let ff = FormFactor::Helical {
+                        signs: sa * sb,
+                        winding_a: wa,
+                        winding_b: wb,
+                        phase_a: e(0.3),
+                        phase_b: e(-1.1),
+                        matrix: m,
+                    };
+                    for (ta, tb) in [(0.0, 0.0), (0.7, 2.0), (-2.5, 1.3)] {
+                        let me = helical_matrix_element(
+                            sa,
+                            wa as f64 * ta + 0.3,
+                            sb,
+                            wb as f64 * tb - 1.1,
+                            m,
+                        );
+                        assert!((me.norm_sqr() - ff.weight(e(ta), e(tb))).abs() < 1e-14);
+                    }
+                }
+            }
+        }
+    }
+
+    /// Upper and lower cone with the same texture: W = 0 in the charge channel (physics.md
+    /// section 2).
+    #[test]
+    fn same_texture_upper_and_lower_cone_has_no_charge_weight() {
+        let ff = FormFactor::Helical {
+            signs: -1.0,
+            winding_a: 1,
+            winding_b: 1,
+            phase_a: Complex64::from_polar(1.0, 0.4),
+            phase_b: Complex64::from_polar(1.0, 0.4),
+            matrix: SpinMatrix::Identity,
+        };
+        for t in [0.0, 1.0, 2.0, 4.0] {
+            let u = Complex64::from_polar(1.0, t);
+            assert!(ff.weight(u, u).abs() < 1e-15);
+        }
+    }
+}

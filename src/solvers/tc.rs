@@ -1,0 +1,490 @@
+//! Critical temperatures from the linearised gap equation g chi(q, T) = 1 (physics.md section 3):
+//! Tc(q) as the largest root in T (scan from the top, then Brent), the uniform Tc = Tc(0), and
+//! the modulated Tc = max over q of Tc(q) with its wavevector q* (global scan over |q| and, for
+//! anisotropic channels, the direction; then Brent refinement). Temperatures are k_B T in meV.
+
+use crate::error::NumericalError;
+use crate::kernels::susceptibility::{susceptibility, susceptibility_checked};
+use crate::kernels::{Accuracy, Shell};
+use crate::model::{Channel, Model};
+use crate::solvers::optimize::brent_max;
+use crate::solvers::roots::brent_root;
+use std::cell::Cell;
+
+/// Tolerances of the critical-temperature searches.
+#[derive(Debug, Clone, Copy)]
+pub struct TcSolver {
+    /// Accuracy of each susceptibility.
+    pub acc: Accuracy,
+    /// Relative tolerance of the temperature root.
+    pub t_rel: f64,
+    /// Lowest temperature searched for the uniform Tc, as a fraction of the nested Tc
+    /// 1.134 Lambda exp(-1/lambda).
+    pub uniform_floor: f64,
+    /// Lowest temperature searched for the modulated Tc (the angular structure of chi(q) sharpens
+    /// as T falls, so this floor is higher).
+    pub modulated_floor: f64,
+    /// Points of the coarse |q| scan.
+    pub q_points: usize,
+    /// Directions of the coarse scan over q's direction for anisotropic channels (over 180 degrees).
+    pub directions: usize,
+}
+
+impl Default for TcSolver {
+    fn default() -> Self {
+        TcSolver {
+            acc: Accuracy::default(),
+            t_rel: 1e-10,
+            uniform_floor: 1e-4,
+            modulated_floor: 5e-3,
+            q_points: 16,
+            directions: 12,
+        }
+    }
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum TcStatus {
+    /// An instability was found at `tc`.
+    Unstable,
+    /// No instability above the temperature floor (tc = 0).
+    NoInstability,
+}
+
+/// Outcome of one critical-temperature search.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct TcReport {
+    /// k_B Tc in meV (0 when there is no instability).
+    pub tc: f64,
+    /// Estimated absolute error of tc in meV (susceptibility error over the slope, plus the
+    /// bracket).
+    pub error: f64,
+    pub status: TcStatus,
+    /// Why no instability was found, where none was.
+    pub reason: Option<String>,
+    /// Susceptibility evaluations used.
+    pub evaluations: usize,
+}
+
+/// The modulated instability: Tc at the best wavevector.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct ModulatedTc {
+    pub tc: TcReport,
+    /// q* in 1/nm (lab frame); along +x for an isotropic channel; zero when the uniform state wins.
+    pub q: [f64; 2],
+    /// chi depends only on |q| (circular pockets, rotation-invariant form factor).
+    pub isotropic: bool,
+    /// Rough uncertainty of |q*| in 1/nm: the maximum in q is flat, so q* is known to fewer
+    /// digits than Tc.
+    pub q_error: f64,
+}
+
+/// The nested Tc 1.134 Lambda exp(-1/lambda) in meV (BCS weak coupling), the reference scale of
+/// the searches; None when lambda = 0.
+pub fn nested_tc(ch: &Channel) -> Option<f64> {
+    let l = ch.lambda();
+    if l > 0.0 {
+        Some(
+            2.0 * crate::special::EULER_GAMMA.exp() / std::f64::consts::PI
+                * ch.cutoff
+                * (-1.0 / l).exp(),
+        )
+    } else {
+        None
+    }
+}
+
+impl TcSolver {
+    /// g chi(q, T).
+    pub fn g_chi(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        q: [f64; 2],
+        t: f64,
+        acc: &Accuracy,
+    ) -> Result<f64, NumericalError> {
+        let shell = Shell::for_channel(model, ch, q)?;
+        Ok(ch.g * susceptibility(&shell, t, acc)?.value)
+    }
+
+    /// A temperature above every instability of the channel (g chi(0, T) < 1 there).
+    fn top_temperature(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        count: &Cell<usize>,
+    ) -> Result<f64, NumericalError> {
+        let mut t = ch.cutoff.max(nested_tc(ch).unwrap_or(0.0) * 2.0);
+        for _ in 0..40 {
+            count.set(count.get() + 1);
+            if self.g_chi(model, ch, [0.0, 0.0], t, &self.acc.coarse())? < 0.9 {
+                return Ok(t);
+            }
+            t *= 2.0;
+        }
+        Err(NumericalError::Invalid(format!(
+            "channel {}: g chi stays above 1 up to T = {t:.3e} meV",
+            ch.label
+        )))
+    }
+
+    /// Largest root in T of `f` (f < 0 at `t_top`), scanning down to `t_floor`, then Brent.
+    /// Where no sign change is found the maximum over T is located before concluding.
+    fn largest_root<F>(
+        &self,
+        what: &str,
+        t_top: f64,
+        t_floor: f64,
+        mut f: F,
+    ) -> Result<Option<(f64, f64, f64)>, NumericalError>
+    where
+        F: FnMut(f64) -> Result<f64, NumericalError>,
+    {
+        let ratio = 0.8;
+        let mut prev = (t_top, f(t_top)?);
+        if prev.1 >= 0.0 {
+            return Err(NumericalError::Invalid(format!(
+                "{what}: unstable at the top temperature {t_top:.4e} meV"
+            )));
+        }
+        let mut best = prev;
+        let mut grid = vec![prev];
+        let mut t = t_top;
+        while t > t_floor {
+            t = (t * ratio).max(t_floor);
+            let v = f(t)?;
+            grid.push((t, v));
+            if v >= 0.0 {
+                let r = brent_root(what, t, prev.0, self.t_rel, &mut f)?;
+                return Ok(Some((r.x, t, prev.0)));
+            }
+            if v > best.1 {
+                best = (t, v);
+            }
+            prev = (t, v);
+            if t <= t_floor {
+                break;
+            }
+        }
+        // No sign change on the grid: the curve may poke above zero between two grid points
+        // (the uniform line bends back near its nose). Maximise over ln T around the best point.
+        let i = grid.iter().position(|p| p.0 == best.0).unwrap_or(0);
+        if i == 0 || i + 1 >= grid.len() {
+            return Ok(None);
+        }
+        let (lo, hi) = (grid[i + 1].0.ln(), grid[i - 1].0.ln());
+        let m = brent_max(what, lo, hi, 1e-6, |x| f(x.exp()))?;
+        if m.value >= 0.0 {
+            let tm = m.x.exp();
+            let r = brent_root(what, tm, grid[i - 1].0, self.t_rel, &mut f)?;
+            return Ok(Some((r.x, tm, grid[i - 1].0)));
+        }
+        Ok(None)
+    }
+
+    /// Error of a root T of g chi(q, T) = 1 from the checked susceptibility and the slope.
+    fn root_error(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        q: [f64; 2],
+        t: f64,
+        count: &Cell<usize>,
+    ) -> Result<f64, NumericalError> {
+        let shell = Shell::for_channel(model, ch, q)?;
+        let checked = susceptibility_checked(&shell, t, &self.acc)?;
+        let dt = 1e-4 * t;
+        let up = ch.g * susceptibility(&shell, t + dt, &self.acc)?.value;
+        let dn = ch.g * susceptibility(&shell, t - dt, &self.acc)?.value;
+        count.set(count.get() + 4);
+        let slope = ((up - dn) / (2.0 * dt)).abs();
+        let err = ch.g * checked.error / slope.max(1e-300) + self.t_rel * t;
+        Ok(err)
+    }
+
+    /// Tc(q) for a fixed wavevector.
+    pub fn at_q(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        q: [f64; 2],
+    ) -> Result<TcReport, NumericalError> {
+        let count = Cell::new(0);
+        let Some(t_ref) = nested_tc(ch) else {
+            return Ok(no_instability(
+                "the pair density of states vanishes (the form factor is zero on the nesting line)"
+                    .into(),
+                0,
+            ));
+        };
+        let t_top = self.top_temperature(model, ch, &count)?;
+        let floor = self.uniform_floor * t_ref;
+        let shell = Shell::for_channel(model, ch, q)?;
+        let found =
+            self.largest_root(&format!("Tc of channel {}", ch.label), t_top, floor, |t| {
+                count.set(count.get() + 1);
+                Ok(ch.g * susceptibility(&shell, t, &self.acc)?.value - 1.0)
+            })?;
+        match found {
+            Some((tc, _, _)) => {
+                let error = self.root_error(model, ch, q, tc, &count)?;
+                if error > 1e-5 * tc {
+                    return Err(NumericalError::NotConverged {
+                        what: format!("Tc of channel {}", ch.label),
+                        iterations: count.get(),
+                        last_change: error,
+                        target: 1e-5 * tc,
+                    });
+                }
+                Ok(TcReport {
+                    tc,
+                    error,
+                    status: TcStatus::Unstable,
+                    reason: None,
+                    evaluations: count.get(),
+                })
+            }
+            None => Ok(no_instability(
+                format!(
+                    "g chi(q, T) < 1 for every T above the floor {:.3e} meV",
+                    floor
+                ),
+                count.get(),
+            )),
+        }
+    }
+
+    /// The uniform Tc = Tc(q = 0).
+    pub fn uniform(&self, model: &Model, ch: &Channel) -> Result<TcReport, NumericalError> {
+        self.at_q(model, ch, [0.0, 0.0])
+    }
+
+    /// Scale of |q| for the search: 2 (|h| + T)/v with v the smaller Fermi velocity.
+    fn q_scale(&self, model: &Model, ch: &Channel, t: f64) -> f64 {
+        let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+        let mut v = f64::INFINITY;
+        for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
+            v = v
+                .min(a.fermi_velocity_along(d))
+                .min(b.fermi_velocity_along(d));
+        }
+        let h = ch
+            .mismatch
+            .abs()
+            .max(ch.mismatch_range[0].abs())
+            .max(ch.mismatch_range[1].abs());
+        2.0 * (h + 2.0 * t) / v
+    }
+
+    /// max over q of g chi(q, T): global coarse scan, then refinement. Returns (q, g chi).
+    pub fn best_q(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        acc: &Accuracy,
+        count: &Cell<usize>,
+    ) -> Result<([f64; 2], f64), NumericalError> {
+        let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
+        let mut eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
+            count.set(count.get() + 1);
+            self.g_chi(model, ch, q, t, acc)
+        };
+        let dirs: Vec<f64> = if iso {
+            vec![0.0]
+        } else {
+            (0..self.directions)
+                .map(|i| std::f64::consts::PI * i as f64 / self.directions as f64)
+                .collect()
+        };
+        let mut qmax = 2.0 * self.q_scale(model, ch, t);
+        let n = self.q_points.max(4);
+        let at = |qm: f64, phi: f64| [qm * phi.cos(), qm * phi.sin()];
+        let zero = eval([0.0, 0.0])?;
+        let (mut best_phi, mut best_i, mut best_v, mut dq);
+        let mut extend = 0;
+        loop {
+            dq = qmax / (n - 1) as f64;
+            best_phi = 0.0;
+            best_i = 0;
+            best_v = zero;
+            for &phi in &dirs {
+                for i in 1..n {
+                    let v = eval(at(dq * i as f64, phi))?;
+                    if v > best_v {
+                        best_v = v;
+                        best_i = i;
+                        best_phi = phi;
+                    }
+                }
+            }
+            if best_i == n - 1 && extend < 3 {
+                qmax *= 2.0;
+                extend += 1;
+                continue;
+            }
+            break;
+        }
+        if best_i == 0 {
+            // Also check the curvature at the origin: a maximum below the first grid point.
+            let small = dq * 0.25;
+            let mut any = false;
+            for &phi in &dirs {
+                if eval(at(small, phi))? > zero {
+                    any = true;
+                    best_phi = phi;
+                }
+            }
+            if !any {
+                return Ok(([0.0, 0.0], zero));
+            }
+        }
+        // Refine |q| (and the direction, alternately, for anisotropic channels).
+        let mut phi = best_phi;
+        let mut qm = dq * best_i as f64;
+        let mut value = best_v;
+        let dphi = std::f64::consts::PI / self.directions as f64;
+        let rounds = if iso { 1 } else { 3 };
+        for round in 0..rounds {
+            let lo = (qm - dq).max(0.0);
+            let hi = qm + dq;
+            let m = brent_max("q* magnitude", lo, hi, 1e-6 * hi, |x| eval(at(x, phi)))?;
+            qm = m.x;
+            value = m.value;
+            if !iso {
+                let w = dphi / (1 << round) as f64;
+                let m = brent_max("q* direction", phi - w, phi + w, 1e-6, |p| eval(at(qm, p)))?;
+                phi = m.x;
+                value = m.value;
+            }
+        }
+        if value <= zero {
+            return Ok(([0.0, 0.0], zero));
+        }
+        Ok((at(qm, phi), value))
+    }
+
+    /// The modulated Tc: the largest T at which max over q of g chi(q, T) = 1, with q*.
+    pub fn modulated(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        uniform: &TcReport,
+    ) -> Result<ModulatedTc, NumericalError> {
+        let count = Cell::new(0);
+        let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
+        let Some(t_ref) = nested_tc(ch) else {
+            return Ok(ModulatedTc {
+                tc: no_instability("the pair density of states vanishes (the form factor is zero on the nesting line)".into(), 0),
+                q: [0.0, 0.0],
+                isotropic: iso,
+                q_error: 0.0,
+            });
+        };
+        let t_top = self.top_temperature(model, ch, &count)?;
+        let floor = (self.modulated_floor * t_ref).min(if uniform.tc > 0.0 {
+            uniform.tc
+        } else {
+            f64::INFINITY
+        });
+        // Coarse stage: scan down with a cheap rule to bracket the largest root.
+        let coarse = self.acc.coarse();
+        let found = self.largest_root("modulated Tc (coarse)", t_top, floor, |t| {
+            let (_, v) = self.best_q(model, ch, t, &coarse, &count)?;
+            Ok(v - 1.0)
+        })?;
+        let Some((_, lo, hi)) = found else {
+            return Ok(ModulatedTc {
+                tc: no_instability(
+                    format!(
+                        "max over q of g chi(q, T) < 1 for every T above the floor {floor:.3e} meV"
+                    ),
+                    count.get(),
+                ),
+                q: [0.0, 0.0],
+                isotropic: iso,
+                q_error: 0.0,
+            });
+        };
+        // Fine stage: Brent on the accurate max over q, bracket widened by the coarse error.
+        let (lo, hi) = (lo * 0.98, hi * 1.02);
+        let fine = |t: f64| -> Result<f64, NumericalError> {
+            let (_, v) = self.best_q(model, ch, t, &self.acc, &count)?;
+            Ok(v - 1.0)
+        };
+        let mut f = fine;
+        let flo = f(lo)?;
+        let fhi = f(hi)?;
+        let root_t =
+            if flo >= 0.0 && fhi < 0.0 {
+                brent_root("modulated Tc", lo, hi, self.t_rel, &mut f)?.x
+            } else {
+                // The coarse bracket missed; fall back to a fine scan from the top.
+                match self.largest_root("modulated Tc", t_top, floor, &mut f)? {
+                    Some((t, _, _)) => t,
+                    None => return Ok(ModulatedTc {
+                        tc: no_instability(
+                            format!(
+                                "max over q of g chi(q, T) < 1 for every T above {floor:.3e} meV"
+                            ),
+                            count.get(),
+                        ),
+                        q: [0.0, 0.0],
+                        isotropic: iso,
+                        q_error: 0.0,
+                    }),
+                }
+            };
+        let (q, _) = self.best_q(model, ch, root_t, &self.acc, &count)?;
+        let qn = q[0].hypot(q[1]);
+        // If the uniform Tc is as high within errors, the uniform state is the instability.
+        if uniform.status == TcStatus::Unstable && root_t <= uniform.tc + uniform.error {
+            return Ok(ModulatedTc {
+                tc: uniform.clone(),
+                q: [0.0, 0.0],
+                isotropic: iso,
+                q_error: self.q_scale(model, ch, uniform.tc) * 1e-2,
+            });
+        }
+        let error = self.root_error(model, ch, q, root_t, &count)?;
+        if error > 1e-5 * root_t {
+            return Err(NumericalError::NotConverged {
+                what: format!("modulated Tc of channel {}", ch.label),
+                iterations: count.get(),
+                last_change: error,
+                target: 1e-5 * root_t,
+            });
+        }
+        let q = if iso {
+            [qn, 0.0]
+        } else if q[0] < 0.0 || (q[0] == 0.0 && q[1] < 0.0) {
+            [-q[0], -q[1]]
+        } else {
+            q
+        };
+        Ok(ModulatedTc {
+            tc: TcReport {
+                tc: root_t,
+                error,
+                status: TcStatus::Unstable,
+                reason: None,
+                evaluations: count.get(),
+            },
+            q,
+            isotropic: iso,
+            q_error: 1e-3 * qn.max(self.q_scale(model, ch, root_t) * 1e-2),
+        })
+    }
+}
+
+fn no_instability(reason: String, evaluations: usize) -> TcReport {
+    TcReport {
+        tc: 0.0,
+        error: 0.0,
+        status: TcStatus::NoInstability,
+        reason: Some(reason),
+        evaluations,
+    }
+}

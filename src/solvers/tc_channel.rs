@@ -1,0 +1,169 @@
+//! Critical temperatures of one channel, by the exact shell integral or by the weak-coupling
+//! closed form (`--method weak`), in one typed result that the reports turn into tables.
+
+use crate::error::{NestorError, NumericalError};
+use crate::kernels::weak;
+use crate::kernels::Shell;
+use crate::model::{Channel, Model};
+use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus};
+
+/// How the critical temperature is computed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Method {
+    /// The full 2D momentum integral over the shell with the real dispersions.
+    Exact,
+    /// The digamma closed form of physics.md section 3 (circular pockets, equal velocities,
+    /// Lambda and Tc much below the Fermi energies).
+    Weak,
+}
+
+/// Uniform and modulated instability of one channel.
+#[derive(Debug, Clone)]
+pub struct ChannelTc {
+    pub label: String,
+    pub method: Method,
+    /// The channel's mismatch h at this point, meV.
+    pub mismatch: f64,
+    /// Nested Tc 1.134 Lambda exp(-1/lambda), meV (the weak-coupling scale Tc0).
+    pub tc_nested: Option<f64>,
+    pub uniform: TcReport,
+    pub modulated: ModulatedTc,
+    /// Notes on approximations made (weak method outside its assumptions).
+    pub notes: Vec<String>,
+}
+
+impl ChannelTc {
+    /// Whether the modulated state has the higher Tc (q* non-zero).
+    pub fn modulated_wins(&self) -> bool {
+        self.modulated.tc.status == TcStatus::Unstable
+            && (self.modulated.q[0] != 0.0 || self.modulated.q[1] != 0.0)
+    }
+
+    /// |q*| in 1/nm.
+    pub fn q_star(&self) -> f64 {
+        self.modulated.q[0].hypot(self.modulated.q[1])
+    }
+}
+
+/// Computes both critical temperatures of a channel.
+pub fn channel_tc(
+    model: &Model,
+    ch: &Channel,
+    solver: &TcSolver,
+    method: Method,
+) -> Result<ChannelTc, NestorError> {
+    match method {
+        Method::Exact => {
+            let uniform = solver.uniform(model, ch)?;
+            let modulated = solver.modulated(model, ch, &uniform)?;
+            Ok(ChannelTc {
+                label: ch.label.clone(),
+                method,
+                mismatch: ch.mismatch,
+                tc_nested: nested_tc(ch),
+                uniform,
+                modulated,
+                notes: vec![],
+            })
+        }
+        Method::Weak => weak_channel_tc(model, ch),
+    }
+}
+
+fn weak_err(e: weak::WeakError) -> NestorError {
+    NestorError::Numerical(NumericalError::Invalid(format!(
+        "weak-coupling closed form: {e}"
+    )))
+}
+
+fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError> {
+    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
+    let mut notes = Vec::new();
+    let dir = [1.0, 0.0];
+    let (va, vb) = (a.fermi_velocity_along(dir), b.fermi_velocity_along(dir));
+    if !(a.is_isotropic() && b.is_isotropic()) {
+        notes.push("weak method: the pockets are not circular; the closed form uses their velocities along x".into());
+    }
+    if (va - vb).abs() > 1e-6 * va.max(vb) {
+        notes.push(format!(
+            "weak method: unequal Fermi velocities ({va:.4} and {vb:.4} meV nm); the closed form uses their mean"
+        ));
+    }
+    if !ch.form.is_constant() {
+        notes.push("weak method: the form factor enters only through nu_ab (its angular structure is ignored)".into());
+    }
+    let v = 0.5 * (va + vb);
+    let Some(t0) = nested_tc(ch) else {
+        let none = TcReport {
+            tc: 0.0,
+            error: 0.0,
+            status: TcStatus::NoInstability,
+            reason: Some("the pair density of states vanishes".into()),
+            evaluations: 0,
+        };
+        return Ok(ChannelTc {
+            label: ch.label.clone(),
+            method: Method::Weak,
+            mismatch: ch.mismatch,
+            tc_nested: None,
+            uniform: none.clone(),
+            modulated: ModulatedTc {
+                tc: none,
+                q: [0.0, 0.0],
+                isotropic: iso,
+                q_error: 0.0,
+            },
+            notes,
+        });
+    };
+    let h = ch.mismatch / t0;
+    let report = |t: Option<f64>| match t {
+        Some(t) => TcReport {
+            tc: t * t0,
+            error: 1e-9 * t * t0,
+            status: TcStatus::Unstable,
+            reason: None,
+            evaluations: 0,
+        },
+        None => TcReport {
+            tc: 0.0,
+            error: 0.0,
+            status: TcStatus::NoInstability,
+            reason: Some(format!(
+                "no instability above {:.1e} Tc0 (weak-coupling closed form)",
+                weak::T_FLOOR
+            )),
+            evaluations: 0,
+        },
+    };
+    let uniform = report(weak::uniform_tc(h).map_err(weak_err)?);
+    let (mod_t, q) = match weak::modulated_tc(h).map_err(weak_err)? {
+        Some((t, qq)) => (Some(t), qq),
+        None => (None, 0.0),
+    };
+    let mut modulated = ModulatedTc {
+        tc: report(mod_t),
+        // Q = v q / 2 in units of Tc0.
+        q: [2.0 * q * t0 / v, 0.0],
+        isotropic: iso,
+        q_error: 1e-4 * 2.0 * t0 / v,
+    };
+    if modulated.tc.status == TcStatus::Unstable
+        && uniform.status == TcStatus::Unstable
+        && modulated.tc.tc <= uniform.tc * (1.0 + 1e-9)
+    {
+        modulated.q = [0.0, 0.0];
+        modulated.tc = uniform.clone();
+    }
+    Ok(ChannelTc {
+        label: ch.label.clone(),
+        method: Method::Weak,
+        mismatch: ch.mismatch,
+        tc_nested: Some(t0),
+        uniform,
+        modulated,
+        notes,
+    })
+}
