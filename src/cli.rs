@@ -83,7 +83,7 @@ pub struct SolveOpts {
     #[arg(long, value_enum, default_value = "exact")]
     pub method: MethodArg,
     /// Relative accuracy target of each susceptibility integral (1e-12 to 1e-3).
-    #[arg(long, default_value_t = 1e-8, value_name = "REL")]
+    #[arg(long, default_value_t = 1e-7, value_name = "REL")]
     pub rtol: f64,
 }
 

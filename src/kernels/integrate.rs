@@ -5,7 +5,7 @@
 
 use crate::error::NumericalError;
 use crate::kernels::quad::PanelRule;
-use crate::kernels::shell::{PairPoint, Shell};
+use crate::kernels::shell::{AngularSymmetry, PairPoint, Shell};
 use std::f64::consts::PI;
 
 /// Accuracy settings of shell integrals. Solvers hold these; kernels only read them.
@@ -17,6 +17,8 @@ pub struct Accuracy {
     pub order: usize,
     /// Panel width at a thermal feature, in units of T (numerics.md: about T/4).
     pub feature_width: f64,
+    /// Radial panel width relative to the distance from the nearest feature (geometric grading).
+    pub growth: f64,
     /// Rays to start from (more than twice the highest angular harmonic of W and the pockets).
     pub min_rays: usize,
     /// Ray limit: reaching it without convergence is an error.
@@ -26,9 +28,10 @@ pub struct Accuracy {
 impl Default for Accuracy {
     fn default() -> Self {
         Accuracy {
-            rtol: 1e-8,
+            rtol: 1e-7,
             order: 8,
-            feature_width: 0.25,
+            feature_width: 0.5,
+            growth: 1.0,
             min_rays: 8,
             max_rays: 1 << 14,
         }
@@ -43,6 +46,7 @@ impl Accuracy {
             rtol: self.rtol * 0.1,
             order: self.order + 4,
             feature_width: self.feature_width * 0.5,
+            growth: self.growth * 0.5,
             min_rays: self.min_rays,
             max_rays: self.max_rays,
         }
@@ -51,9 +55,10 @@ impl Accuracy {
     /// A looser rule for coarse searches (scans before a refinement).
     pub fn coarse(&self) -> Accuracy {
         Accuracy {
-            rtol: (self.rtol * 100.0).min(1e-4),
+            rtol: (self.rtol * 1000.0).min(1e-4),
             order: self.order.saturating_sub(2).max(4),
             feature_width: self.feature_width,
+            growth: self.growth,
             min_rays: self.min_rays,
             max_rays: self.max_rays,
         }
@@ -70,10 +75,73 @@ pub struct Estimate {
     pub rays: usize,
 }
 
-/// Scratch space reused between rays.
-#[derive(Default)]
-struct Scratch {
-    breaks: Vec<f64>,
+/// Angular trapezoid rule with ray doubling, over the part of the circle the symmetry needs.
+/// `ray(theta)` returns N values; `converged(change, value)` decides when to stop. Returns the
+/// integrals over the full circle (of the ray values, times 1/(2 pi)^2), the last changes and the
+/// number of rays.
+fn angular_doubling<const N: usize, R, C>(
+    symmetry: AngularSymmetry,
+    acc: &Accuracy,
+    mut ray: R,
+    converged: C,
+) -> Result<([f64; N], [f64; N], usize), NumericalError>
+where
+    R: FnMut(f64) -> Result<[f64; N], NumericalError>,
+    C: Fn(&[f64; N], &[f64; N]) -> bool,
+{
+    let norm = 1.0 / (4.0 * PI * PI);
+    let (span, closed, factor) = match symmetry {
+        AngularSymmetry::SingleRay => {
+            let v = ray(0.0)?;
+            return Ok((v.map(|x| 2.0 * PI * x * norm), [0.0; N], 1));
+        }
+        AngularSymmetry::None => (2.0 * PI, false, 1.0),
+        AngularSymmetry::Inversion => (PI, false, 2.0),
+        AngularSymmetry::Mirror => (PI, true, 2.0),
+    };
+    let full_min = acc.min_rays.max(4);
+    let mut n = if factor > 1.0 { full_min / 2 } else { full_min };
+    let mut sum = [0.0; N];
+    let mut add = |sum: &mut [f64; N], theta: f64, w: f64| -> Result<(), NumericalError> {
+        let v = ray(theta)?;
+        for i in 0..N {
+            sum[i] += w * v[i];
+        }
+        Ok(())
+    };
+    for j in 0..n {
+        add(
+            &mut sum,
+            span * j as f64 / n as f64,
+            if closed && j == 0 { 0.5 } else { 1.0 },
+        )?;
+    }
+    if closed {
+        add(&mut sum, span, 0.5)?;
+    }
+    let scale = |sum: &[f64; N], n: usize| sum.map(|x| factor * span / n as f64 * x * norm);
+    let mut value = scale(&sum, n);
+    let mut change = [f64::INFINITY; N];
+    while 2 * n * factor as usize <= acc.max_rays {
+        for j in 0..n {
+            add(&mut sum, span * (j as f64 + 0.5) / n as f64, 1.0)?;
+        }
+        n *= 2;
+        let new = scale(&sum, n);
+        for i in 0..N {
+            change[i] = (new[i] - value[i]).abs();
+        }
+        value = new;
+        if converged(&change, &value) {
+            return Ok((value, change, n * factor as usize));
+        }
+    }
+    Err(NumericalError::NotConverged {
+        what: "shell integral over the ray angle".into(),
+        iterations: n * factor as usize,
+        last_change: change[0],
+        target: acc.rtol * value[0].abs(),
+    })
 }
 
 /// int_shell d^2k/(2 pi)^2 f(k, point) with thermal features of energy width `energy_scale` at
@@ -89,13 +157,13 @@ where
     F: Fn([f64; 2], &PairPoint) -> f64,
 {
     let rule = PanelRule::new(acc.order);
-    let mut scratch = Scratch::default();
+    let mut breaks = Vec::new();
     let width = energy_scale * acc.feature_width;
-    let mut ray_integral = |theta: f64| -> Result<(f64, f64), NumericalError> {
-        let ray = shell.ray(theta, width, extra, &mut scratch.breaks)?;
+    let ray_integral = |theta: f64| -> Result<[f64; 2], NumericalError> {
+        let ray = shell.ray(theta, width, extra, acc.growth, &mut breaks)?;
         let mut s = 0.0;
         let mut sa = 0.0;
-        for w in scratch.breaks.windows(2) {
+        for w in breaks.windows(2) {
             rule.for_each_node(w[0], w[1], |r, wr| {
                 let k = shell.point_on_ray(ray.u, r);
                 let p = shell.at(k);
@@ -104,61 +172,22 @@ where
                 sa += v.abs();
             });
         }
-        Ok((s, sa))
+        Ok([s, sa])
     };
-    let norm = 1.0 / (4.0 * PI * PI);
-    if shell.single_ray {
-        let (s, _) = ray_integral(0.0)?;
-        return Ok(Estimate {
-            value: 2.0 * PI * s * norm,
-            error: 0.0,
-            rays: 1,
-        });
-    }
-    let mut n = acc.min_rays.max(2);
-    let mut sum = 0.0;
-    let mut sum_abs = 0.0;
-    for j in 0..n {
-        let (s, sa) = ray_integral(2.0 * PI * j as f64 / n as f64)?;
-        sum += s;
-        sum_abs += sa;
-    }
-    let mut value = 2.0 * PI / n as f64 * sum * norm;
-    let mut last_change = f64::INFINITY;
-    while 2 * n <= acc.max_rays {
-        let mut add = 0.0;
-        let mut add_abs = 0.0;
-        for j in 0..n {
-            let (s, sa) = ray_integral(2.0 * PI * (j as f64 + 0.5) / n as f64)?;
-            add += s;
-            add_abs += sa;
-        }
-        sum += add;
-        sum_abs += add_abs;
-        n *= 2;
-        let new = 2.0 * PI / n as f64 * sum * norm;
-        let scale = 2.0 * PI / n as f64 * sum_abs * norm;
-        let change = (new - value).abs();
-        value = new;
-        last_change = change;
-        if change <= acc.rtol * value.abs().max(1e-3 * scale) || scale == 0.0 {
-            return Ok(Estimate {
-                value,
-                error: change,
-                rays: n,
-            });
-        }
-    }
-    Err(NumericalError::NotConverged {
-        what: "shell integral over angle".into(),
-        iterations: n,
-        last_change,
-        target: acc.rtol * value.abs(),
+    let (value, change, rays) =
+        angular_doubling::<2, _, _>(shell.symmetry, acc, ray_integral, |c, v| {
+            c[0] <= acc.rtol * v[0].abs().max(1e-3 * v[1]) || v[1] == 0.0
+        })?;
+    Ok(Estimate {
+        value: value[0],
+        error: change[0],
+        rays,
     })
 }
 
 /// Integral over the nesting line xi = 0 (at the shell's q): int dl/(2 pi)^2 f(k)/|grad xi|,
-/// i.e. int d^2k/(2 pi)^2 delta(xi_k) f(k). Returns the estimate for each of the functions.
+/// i.e. int d^2k/(2 pi)^2 delta(xi_k) f(k), for N functions at once. The first function must be
+/// positive; the others converge relative to it.
 pub fn nesting_line_integral<const N: usize, F>(
     shell: &Shell,
     acc: &Accuracy,
@@ -167,20 +196,6 @@ pub fn nesting_line_integral<const N: usize, F>(
 where
     F: Fn([f64; 2], &PairPoint) -> [f64; N],
 {
-    let norm = 1.0 / (4.0 * PI * PI);
-    let ray = |theta: f64| -> Result<[f64; N], NumericalError> {
-        let u = [theta.cos(), theta.sin()];
-        let r0 = shell.xi_radius(u, 0.0)?;
-        let slope = shell.xi_slope(u, r0);
-        let k = shell.point_on_ray(u, r0);
-        let p = shell.at(k);
-        let vals = f(k, &p);
-        let mut out = [0.0; N];
-        for i in 0..N {
-            out[i] = vals[i] * r0 / slope;
-        }
-        Ok(out)
-    };
     if shell.xi_centre >= 0.0 {
         return Ok([Estimate {
             value: 0.0,
@@ -188,68 +203,25 @@ where
             rays: 0,
         }; N]);
     }
-    let mk = |sum: &[f64; N], n: usize| -> [f64; N] {
-        let mut v = [0.0; N];
-        for i in 0..N {
-            v[i] = 2.0 * PI / n as f64 * sum[i] * norm;
-        }
-        v
+    let ray = |theta: f64| -> Result<[f64; N], NumericalError> {
+        let u = [theta.cos(), theta.sin()];
+        let r0 = shell.xi_radius(u, 0.0)?;
+        let slope = shell.xi_slope(u, r0);
+        let k = shell.point_on_ray(u, r0);
+        let p = shell.at(k);
+        Ok(f(k, &p).map(|v| v * r0 / slope))
     };
-    if shell.single_ray {
-        let s = ray(0.0)?;
-        let v = mk(&s, 1);
-        return Ok(v.map(|value| Estimate {
-            value,
-            error: 0.0,
-            rays: 1,
-        }));
+    let (value, change, rays) = angular_doubling::<N, _, _>(shell.symmetry, acc, ray, |c, v| {
+        (0..N).all(|i| c[i] <= acc.rtol * v[i].abs().max(v[0].abs()))
+    })?;
+    let mut out = [Estimate {
+        value: 0.0,
+        error: 0.0,
+        rays,
+    }; N];
+    for i in 0..N {
+        out[i].value = value[i];
+        out[i].error = change[i];
     }
-    let mut n = acc.min_rays.max(2);
-    let mut sum = [0.0; N];
-    for j in 0..n {
-        let s = ray(2.0 * PI * j as f64 / n as f64)?;
-        for i in 0..N {
-            sum[i] += s[i];
-        }
-    }
-    let mut value = mk(&sum, n);
-    while 2 * n <= acc.max_rays {
-        for j in 0..n {
-            let s = ray(2.0 * PI * (j as f64 + 0.5) / n as f64)?;
-            for i in 0..N {
-                sum[i] += s[i];
-            }
-        }
-        n *= 2;
-        let new = mk(&sum, n);
-        let mut ok = true;
-        let mut err = [0.0; N];
-        for i in 0..N {
-            err[i] = (new[i] - value[i]).abs();
-            // The first function is the positive weight; others are measured against it.
-            let scale = new[i].abs().max(new[0].abs());
-            if err[i] > acc.rtol * scale && scale > 0.0 {
-                ok = false;
-            }
-        }
-        value = new;
-        if ok {
-            let mut out = [Estimate {
-                value: 0.0,
-                error: 0.0,
-                rays: n,
-            }; N];
-            for i in 0..N {
-                out[i].value = value[i];
-                out[i].error = err[i];
-            }
-            return Ok(out);
-        }
-    }
-    Err(NumericalError::NotConverged {
-        what: "integral over the nesting line".into(),
-        iterations: n,
-        last_change: f64::NAN,
-        target: acc.rtol,
-    })
+    Ok(out)
 }

@@ -79,9 +79,9 @@ pub struct Feature {
 }
 
 /// Panel breakpoints on [lo, hi]: every feature inside is a breakpoint, and panels grow
-/// geometrically (each about half the distance to the nearest feature, never smaller than that
-/// feature's scale) away from the features. Writes into `out` (cleared first).
-pub fn graded_breakpoints(lo: f64, hi: f64, features: &[Feature], out: &mut Vec<f64>) {
+/// geometrically away from the features (each `growth` times the distance to the nearest feature,
+/// never smaller than that feature's scale). Writes into `out` (cleared first).
+pub fn graded_breakpoints(lo: f64, hi: f64, features: &[Feature], growth: f64, out: &mut Vec<f64>) {
     out.clear();
     out.push(lo);
     if !(hi > lo) {
@@ -96,7 +96,14 @@ pub fn graded_breakpoints(lo: f64, hi: f64, features: &[Feature], out: &mut Vec<
     let size_at = |x: f64| -> f64 {
         let mut s = f64::INFINITY;
         for f in features.iter().filter(|f| f.scale > 0.0) {
-            s = s.min(f.scale.max(0.5 * (x - f.at).abs()));
+            // Moving away from a feature behind: the panel is `growth` times its distance; moving
+            // towards one ahead: the panel's far end keeps the same ratio to the feature.
+            let d = if f.at > x {
+                growth * (f.at - x) / (1.0 + growth)
+            } else {
+                growth * (x - f.at)
+            };
+            s = s.min(f.scale.max(d));
         }
         s
     };
@@ -177,7 +184,7 @@ mod tests {
                 scale: 1e-3,
             },
         ];
-        graded_breakpoints(0.0, 1.0, &feats, &mut out);
+        graded_breakpoints(0.0, 1.0, &feats, 0.5, &mut out);
         assert_eq!(out[0], 0.0);
         assert_eq!(*out.last().unwrap(), 1.0);
         assert!(out.contains(&0.3) && out.contains(&0.31));

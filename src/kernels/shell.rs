@@ -35,6 +35,19 @@ impl PairPoint {
     }
 }
 
+/// Symmetry of a shell integrand in the ray angle theta.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AngularSymmetry {
+    /// No symmetry used: the full circle.
+    None,
+    /// Independent of theta: one ray.
+    SingleRay,
+    /// theta -> theta + pi (q = 0): half the circle.
+    Inversion,
+    /// theta -> -theta (circular pockets, q along x, mirror-symmetric W): half the circle.
+    Mirror,
+}
+
 /// Which function of k a radius search looks at.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Field {
@@ -63,8 +76,10 @@ pub struct Shell<'m> {
     parabolic: bool,
     /// A typical momentum scale (1/nm) for bracketing radii.
     k_scale: f64,
-    /// One ray represents every direction (circular pockets, W = 1, q = 0, centre at the origin).
+    /// One ray represents every direction (circular pockets, rotation-invariant W, q = 0).
     pub single_ray: bool,
+    /// Symmetry of the integrand in the ray angle, used to integrate over part of the circle.
+    pub symmetry: AngularSymmetry,
     /// The integrand depends on the ray angle only through circular pockets and a
     /// rotation-invariant W: chi depends on |q| only.
     pub isotropic: bool,
@@ -110,6 +125,7 @@ impl<'m> Shell<'m> {
             parabolic,
             k_scale,
             single_ray: false,
+            symmetry: AngularSymmetry::None,
             isotropic: false,
         };
         if parabolic {
@@ -163,7 +179,18 @@ impl<'m> Shell<'m> {
         }
         let circular = a.is_isotropic() && b.is_isotropic();
         shell.isotropic = circular && form.is_rotation_invariant();
-        shell.single_ray = circular && form.is_constant() && q == [0.0, 0.0];
+        let q_zero = q == [0.0, 0.0];
+        shell.single_ray = shell.isotropic && q_zero;
+        shell.symmetry = if shell.single_ray {
+            AngularSymmetry::SingleRay
+        } else if q_zero {
+            // Every dispersion here is even in k and W is unchanged by k -> -k.
+            AngularSymmetry::Inversion
+        } else if circular && q[1] == 0.0 && form.is_mirror_symmetric() {
+            AngularSymmetry::Mirror
+        } else {
+            AngularSymmetry::None
+        };
         Ok(shell)
     }
 
@@ -306,13 +333,14 @@ impl<'m> Shell<'m> {
         theta: f64,
         energy_scale: f64,
         extra_xi_features: &[(f64, f64)],
+        growth: f64,
         breakpoints: &mut Vec<f64>,
     ) -> Result<Ray, NumericalError> {
         let u = [theta.cos(), theta.sin()];
         let r_lo = self.xi_radius(u, self.xi_lo)?;
         let r_hi = self.xi_radius(u, self.cutoff)?;
         let mut feats: Vec<Feature> = Vec::with_capacity(8);
-        let mut add_xi =
+        let add_xi =
             |level: f64, width: f64, feats: &mut Vec<Feature>| -> Result<(), NumericalError> {
                 if level > self.xi_lo && level < self.cutoff {
                     let r = self.xi_radius(u, level)?;
@@ -350,7 +378,7 @@ impl<'m> Shell<'m> {
                 }
             }
         }
-        graded_breakpoints(r_lo, r_hi, &feats, breakpoints);
+        graded_breakpoints(r_lo, r_hi, &feats, growth, breakpoints);
         Ok(Ray { u, r_lo, r_hi })
     }
 

@@ -105,6 +105,27 @@ impl FormFactor {
         matches!(self, FormFactor::Unity)
     }
 
+    /// Whether W is unchanged by the mirror ky -> -ky of both momenta (theta -> -theta).
+    pub fn is_mirror_symmetric(&self) -> bool {
+        match *self {
+            FormFactor::Unity => true,
+            FormFactor::Helical {
+                winding_a,
+                winding_b,
+                phase_a,
+                phase_b,
+                matrix,
+                ..
+            } => {
+                // W depends on cos(w (theta_b - theta_a) + phi_b - phi_a): even in theta when the
+                // phase difference is 0 or pi.
+                matrix.is_diagonal()
+                    && winding_a == winding_b
+                    && (phase_b * phase_a.conj()).im.abs() < 1e-14
+            }
+        }
+    }
+
     /// Whether W is unchanged when both momenta rotate together (so chi(q) depends on |q| only for
     /// circular pockets).
     pub fn is_rotation_invariant(&self) -> bool {

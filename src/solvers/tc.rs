@@ -116,7 +116,10 @@ impl TcSolver {
         ch: &Channel,
         count: &Cell<usize>,
     ) -> Result<f64, NumericalError> {
-        let mut t = ch.cutoff.max(nested_tc(ch).unwrap_or(0.0) * 2.0);
+        let mut t = nested_tc(ch)
+            .map(|t| 1.5 * t)
+            .unwrap_or(ch.cutoff)
+            .min(ch.cutoff);
         for _ in 0..40 {
             count.set(count.get() + 1);
             if self.g_chi(model, ch, [0.0, 0.0], t, &self.acc.coarse())? < 0.9 {
@@ -288,7 +291,7 @@ impl TcSolver {
         count: &Cell<usize>,
     ) -> Result<([f64; 2], f64), NumericalError> {
         let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
-        let mut eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
+        let eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
             count.set(count.get() + 1);
             self.g_chi(model, ch, q, t, acc)
         };
@@ -366,7 +369,106 @@ impl TcSolver {
         Ok((at(qm, phi), value))
     }
 
+    /// Global maximum over q of g chi(q, T) at accuracy `self.acc`: coarse scan, then local
+    /// refinement. Returns (q*, g chi(q*, T)); q* = 0 when the uniform susceptibility is largest.
+    pub fn max_over_q(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+    ) -> Result<([f64; 2], f64), NumericalError> {
+        let count = Cell::new(0);
+        let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
+        let (q, v) = self.best_q(model, ch, t, &self.acc.coarse(), &count)?;
+        if q == [0.0, 0.0] {
+            return Ok((q, self.g_chi(model, ch, q, t, &self.acc)?));
+        }
+        let _ = v;
+        self.local_q(model, ch, t, q, iso, &count)
+    }
+
+    /// Curvature d^2 chi / dq^2 at q = 0 along the unit vector `dir` (1/(meV nm^2) nm^2), by
+    /// Richardson-extrapolated central differences (chi(q) = chi(-q)) with steps well below T/v.
+    /// Returns (curvature, error estimate).
+    pub fn chi_q_curvature(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        dir: [f64; 2],
+    ) -> Result<(f64, f64), NumericalError> {
+        let acc = Accuracy {
+            rtol: 1e-12,
+            ..self.acc
+        };
+        let v = {
+            let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+            a.fermi_velocity_along(dir).max(b.fermi_velocity_along(dir))
+        };
+        let step = 0.1 * t / v;
+        let chi = |q: f64| -> Result<f64, NumericalError> {
+            let shell = Shell::for_channel(model, ch, [q * dir[0], q * dir[1]])?;
+            Ok(susceptibility(&shell, t, &acc)?.value)
+        };
+        let c0 = chi(0.0)?;
+        let c1 = 2.0 * (chi(step)? - c0) / (step * step);
+        let c2 = 2.0 * (chi(0.5 * step)? - c0) / (0.25 * step * step);
+        let c4 = 2.0 * (chi(0.25 * step)? - c0) / (0.0625 * step * step);
+        let r1 = (4.0 * c2 - c1) / 3.0;
+        let r2 = (4.0 * c4 - c2) / 3.0;
+        Ok((r2, (r2 - r1).abs()))
+    }
+
+    /// Local maximum of g chi(q, T) over q near `hint` (|q| and, for anisotropic channels, the
+    /// direction), widening the bracket while the maximum sits at its edge. Returns (q, g chi).
+    fn local_q(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        hint: [f64; 2],
+        iso: bool,
+        count: &Cell<usize>,
+    ) -> Result<([f64; 2], f64), NumericalError> {
+        let eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
+            count.set(count.get() + 1);
+            self.g_chi(model, ch, q, t, &self.acc)
+        };
+        let at = |qm: f64, phi: f64| [qm * phi.cos(), qm * phi.sin()];
+        let mut qm = hint[0].hypot(hint[1]);
+        let mut phi = if iso { 0.0 } else { hint[1].atan2(hint[0]) };
+        let mut value = f64::NEG_INFINITY;
+        let rounds = if iso { 1 } else { 2 };
+        for round in 0..rounds {
+            let mut w = 0.25 * qm;
+            for _ in 0..6 {
+                let (lo, hi) = ((qm - w).max(0.0), qm + w);
+                let m = brent_max("q* magnitude", lo, hi, 1e-7 * hi, |x| eval(at(x, phi)))?;
+                let at_edge = (m.x - lo) < 1e-3 * w && lo > 0.0 || (hi - m.x) < 1e-3 * w;
+                qm = m.x;
+                value = m.value;
+                if !at_edge {
+                    break;
+                }
+                w *= 2.0;
+            }
+            if !iso {
+                let w = 0.3 / (1 << round) as f64;
+                let m = brent_max("q* direction", phi - w, phi + w, 1e-7, |p| eval(at(qm, p)))?;
+                phi = m.x;
+                value = m.value;
+            }
+        }
+        Ok((at(qm, phi), value))
+    }
+
     /// The modulated Tc: the largest T at which max over q of g chi(q, T) = 1, with q*.
+    ///
+    /// Strategy: if the uniform instability exists and q = 0 is the global maximum of chi(q) at
+    /// the uniform Tc, the uniform state is the instability (chi at higher T favours q = 0 even
+    /// more). Otherwise the bracket of the largest root is found (upward from the uniform Tc, or by
+    /// a coarse scan from the top when there is no uniform instability) and refined by Brent on the
+    /// local maximum over q, followed by a global check of q at the root.
     pub fn modulated(
         &self,
         model: &Model,
@@ -375,77 +477,128 @@ impl TcSolver {
     ) -> Result<ModulatedTc, NumericalError> {
         let count = Cell::new(0);
         let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
-        let Some(t_ref) = nested_tc(ch) else {
-            return Ok(ModulatedTc {
-                tc: no_instability("the pair density of states vanishes (the form factor is zero on the nesting line)".into(), 0),
-                q: [0.0, 0.0],
-                isotropic: iso,
-                q_error: 0.0,
-            });
+        let none = |reason: String, n: usize| ModulatedTc {
+            tc: no_instability(reason, n),
+            q: [0.0, 0.0],
+            isotropic: iso,
+            q_error: 0.0,
         };
-        let t_top = self.top_temperature(model, ch, &count)?;
-        let floor = (self.modulated_floor * t_ref).min(if uniform.tc > 0.0 {
-            uniform.tc
-        } else {
-            f64::INFINITY
-        });
-        // Coarse stage: scan down with a cheap rule to bracket the largest root.
+        let Some(t_ref) = nested_tc(ch) else {
+            return Ok(none(
+                "the pair density of states vanishes (the form factor is zero on the nesting line)"
+                    .into(),
+                0,
+            ));
+        };
         let coarse = self.acc.coarse();
-        let found = self.largest_root("modulated Tc (coarse)", t_top, floor, |t| {
-            let (_, v) = self.best_q(model, ch, t, &coarse, &count)?;
-            Ok(v - 1.0)
-        })?;
-        let Some((_, lo, hi)) = found else {
-            return Ok(ModulatedTc {
-                tc: no_instability(
+        let (mut lo, mut hi, mut hint);
+        if uniform.status == TcStatus::Unstable {
+            let tu = uniform.tc;
+            let (q1, _) = self.best_q(model, ch, tu, &coarse, &count)?;
+            if q1 == [0.0, 0.0] {
+                return Ok(ModulatedTc {
+                    tc: uniform.clone(),
+                    q: [0.0, 0.0],
+                    isotropic: iso,
+                    q_error: 0.0,
+                });
+            }
+            // Walk up from the uniform Tc until the local maximum over q falls below 1/g.
+            hint = q1;
+            lo = tu;
+            hi = tu;
+            let mut step = 1.02;
+            let mut found = false;
+            for _ in 0..40 {
+                hi = lo * step;
+                let (q, v) = self.local_q(model, ch, hi, hint, iso, &count)?;
+                if v < 1.0 {
+                    found = true;
+                    break;
+                }
+                hint = q;
+                lo = hi;
+                step = (step * step).min(1.5);
+            }
+            if !found {
+                return Err(NumericalError::NotBracketed {
+                    what: "modulated Tc above the uniform Tc".into(),
+                    lo: uniform.tc,
+                    hi,
+                });
+            }
+        } else {
+            let t_top = self.top_temperature(model, ch, &count)?;
+            let floor = self.modulated_floor * t_ref;
+            let best = Cell::new(([0.0, 0.0], 0.0));
+            let found = self.largest_root("modulated Tc (coarse)", t_top, floor, |t| {
+                let (q, v) = self.best_q(model, ch, t, &coarse, &count)?;
+                if v >= 1.0 {
+                    best.set((q, t));
+                }
+                Ok(v - 1.0)
+            })?;
+            let Some((_, l, h)) = found else {
+                return Ok(none(
                     format!(
                         "max over q of g chi(q, T) < 1 for every T above the floor {floor:.3e} meV"
                     ),
                     count.get(),
-                ),
-                q: [0.0, 0.0],
-                isotropic: iso,
-                q_error: 0.0,
-            });
-        };
-        // Fine stage: Brent on the accurate max over q, bracket widened by the coarse error.
-        let (lo, hi) = (lo * 0.98, hi * 1.02);
-        let fine = |t: f64| -> Result<f64, NumericalError> {
-            let (_, v) = self.best_q(model, ch, t, &self.acc, &count)?;
-            Ok(v - 1.0)
-        };
-        let mut f = fine;
-        let flo = f(lo)?;
-        let fhi = f(hi)?;
-        let root_t =
-            if flo >= 0.0 && fhi < 0.0 {
-                brent_root("modulated Tc", lo, hi, self.t_rel, &mut f)?.x
-            } else {
-                // The coarse bracket missed; fall back to a fine scan from the top.
-                match self.largest_root("modulated Tc", t_top, floor, &mut f)? {
-                    Some((t, _, _)) => t,
-                    None => return Ok(ModulatedTc {
-                        tc: no_instability(
-                            format!(
-                                "max over q of g chi(q, T) < 1 for every T above {floor:.3e} meV"
-                            ),
-                            count.get(),
-                        ),
-                        q: [0.0, 0.0],
-                        isotropic: iso,
-                        q_error: 0.0,
-                    }),
-                }
+                ));
             };
-        let (q, _) = self.best_q(model, ch, root_t, &self.acc, &count)?;
+            lo = l;
+            hi = h;
+            hint = best.get().0;
+            if hint == [0.0, 0.0] {
+                hint = self.best_q(model, ch, lo, &coarse, &count)?.0;
+            }
+            // The coarse rule may misplace the root slightly: make sure of the bracket.
+            for _ in 0..10 {
+                let (q, v) = self.local_q(model, ch, lo, hint, iso, &count)?;
+                if v >= 1.0 {
+                    hint = q;
+                    break;
+                }
+                hi = lo;
+                lo *= 0.97;
+            }
+            for _ in 0..10 {
+                let (_, v) = self.local_q(model, ch, hi, hint, iso, &count)?;
+                if v < 1.0 {
+                    break;
+                }
+                lo = hi;
+                hi *= 1.03;
+            }
+        }
+        // Fine stage: Brent on the local maximum over q.
+        let last = Cell::new(hint);
+        let root = brent_root("modulated Tc", lo, hi, self.t_rel, |t| {
+            let (q, v) = self.local_q(model, ch, t, last.get(), iso, &count)?;
+            last.set(q);
+            Ok(v - 1.0)
+        })?;
+        let root_t = root.x;
+        let (q, _) = self.local_q(model, ch, root_t, last.get(), iso, &count)?;
+        // Global check at the root: no other wavevector may be more unstable.
+        let (qg, vg) = self.best_q(model, ch, root_t, &coarse, &count)?;
+        let (_, vl) = (
+            q,
+            ch.g * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value,
+        );
+        if vg > vl * (1.0 + 1e-4) && (qg[0] - q[0]).hypot(qg[1] - q[1]) > 0.1 * q[0].hypot(q[1]) {
+            return Err(NumericalError::Invalid(format!(
+                "modulated Tc of channel {}: a second maximum of chi(q) at q = ({:.4e}, {:.4e})/nm competes with q = ({:.4e}, {:.4e})/nm",
+                ch.label, qg[0], qg[1], q[0], q[1]
+            )));
+        }
         let qn = q[0].hypot(q[1]);
-        // If the uniform Tc is as high within errors, the uniform state is the instability.
         if uniform.status == TcStatus::Unstable && root_t <= uniform.tc + uniform.error {
             return Ok(ModulatedTc {
                 tc: uniform.clone(),
                 q: [0.0, 0.0],
                 isotropic: iso,
-                q_error: self.q_scale(model, ch, uniform.tc) * 1e-2,
+                q_error: 0.0,
             });
         }
         let error = self.root_error(model, ch, q, root_t, &count)?;
@@ -474,7 +627,7 @@ impl TcSolver {
             },
             q,
             isotropic: iso,
-            q_error: 1e-3 * qn.max(self.q_scale(model, ch, root_t) * 1e-2),
+            q_error: 1e-3 * qn,
         })
     }
 }
