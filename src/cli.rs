@@ -125,7 +125,7 @@ pub struct DemoArgs {
     #[arg(long)]
     pub threads: Option<usize>,
     /// Points of the demo's Tc curve.
-    #[arg(long, default_value_t = 61)]
+    #[arg(long, default_value_t = 31)]
     pub points: usize,
 }
 

@@ -165,7 +165,8 @@ fn parse_path(path: &str, flag: &str) -> Result<(String, String, Option<usize>),
 /// Applies one override to the raw table.
 pub fn apply(origin: &str, table: &mut Table, o: &Override) -> Result<(), InputError> {
     let path = o.path();
-    let err = |why: String| InputError::new(format!("{origin}: --set {path}: {why}"));
+    // Shared by `--set` and by each point of `--vary`, so the message names both.
+    let err = |why: String| InputError::new(format!("{origin}: --set/--vary {path}: {why}"));
     if o.target == "surface" {
         if !SURFACE_KEYS.contains(&o.key.as_str()) || o.component.is_some() {
             return Err(err(format!(

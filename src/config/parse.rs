@@ -159,23 +159,30 @@ fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError>
         required(&ctx, t, "kind", "\"electron\", \"hole\" or \"dirac\"")?,
         "\"electron\", \"hole\" or \"dirac\"",
     )?;
-    let kind =
-        match kind_s {
-            "electron" => PocketKind::Electron,
-            "hole" => PocketKind::Hole,
-            "dirac" => PocketKind::Dirac,
-            other => return Err(ctx.err(
+    let kind = match kind_s {
+        "electron" => PocketKind::Electron,
+        "hole" => PocketKind::Hole,
+        "dirac" => PocketKind::Dirac,
+        other => {
+            return Err(ctx.err(
                 "kind",
                 format!(
                     "`{other}` is not a pocket kind; allowed: \"electron\", \"hole\", \"dirac\""
                 ),
-            )),
-        };
+            ))
+        }
+    };
     let center = match required(&ctx, t, "center", "[kx, ky] in 1/nm")? {
         Value::Array(a) if a.len() == 2 => [
             number(&ctx, "center", &a[0], "[kx, ky] in 1/nm")?,
             number(&ctx, "center", &a[1], "[kx, ky] in 1/nm")?,
         ],
+        Value::Array(a) => {
+            return Err(ctx.err(
+                "center",
+                format!("expected [kx, ky] in 1/nm, got {} components", a.len()),
+            ))
+        }
         other => {
             return Err(ctx.err(
                 "center",
@@ -251,7 +258,14 @@ fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError>
                     let vf = positive(&ctx, "vf", required(&ctx, t, "vf", "hbar vF in meV nm")?, "meV nm", 1e5)?;
                     // m = hbar kF / vF: hbar^2/(2m) = (hbar vF)/(2 kF); E0 = -+ hbar kF vF / 2.
                     let c = vf / (2.0 * kf);
-                    ([c, c], -sign * kf * vf / 2.0)
+                    let edge = kf * vf / 2.0;
+                    if edge <= 0.0 || !c.is_finite() {
+                        return Err(ctx.err(
+                            "vf",
+                            format!("kf = {kf} 1/nm with vf = {vf} meV nm gives a band edge kf vf / 2 = {edge} meV, which is not usable; allowed: kf vf / 2 > 0 and vf / kf finite"),
+                        ));
+                    }
+                    ([c, c], -sign * edge)
                 }
             };
             if sign * offset >= 0.0 {
@@ -332,12 +346,14 @@ fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError>
                 phase: phase.to_radians(),
             }
         }
-        Some(other) => return Err(ctx.err(
-            "spin",
-            format!(
+        Some(other) => {
+            return Err(ctx.err(
+                "spin",
+                format!(
                 "expected \"degenerate\" or {{ winding = 1 or -1, phase = degrees }}, got {other}"
             ),
-        )),
+            ))
+        }
     };
     Ok(Pocket::new(
         name.to_string(),

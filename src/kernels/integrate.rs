@@ -103,7 +103,7 @@ where
     let mut n = if factor > 1.0 { full_min / 2 } else { full_min };
     let mut sum = [0.0; N];
     let mut add = |sum: &mut [f64; N], theta: f64, w: f64| -> Result<(), NumericalError> {
-        let v = ray(theta)?;
+        let v = (&mut ray)(theta)?;
         for i in 0..N {
             sum[i] += w * v[i];
         }
@@ -122,7 +122,7 @@ where
     let scale = |sum: &[f64; N], n: usize| sum.map(|x| factor * span / n as f64 * x * norm);
     let mut value = scale(&sum, n);
     let mut change = [f64::INFINITY; N];
-    while 2 * n * factor as usize <= acc.max_rays {
+    while 2 * n * factor as usize <= TRAPEZOID_RAYS.min(acc.max_rays) {
         for j in 0..n {
             add(&mut sum, span * (j as f64 + 0.5) / n as f64, 1.0)?;
         }
@@ -136,12 +136,97 @@ where
             return Ok((value, change, n * factor as usize));
         }
     }
-    Err(NumericalError::NotConverged {
-        what: "shell integral over the ray angle".into(),
-        iterations: n * factor as usize,
-        last_change: change[0],
-        target: acc.rtol * value[0].abs(),
-    })
+    // Sharp angular structure (low T, q != 0, anisotropic pockets): adaptive Gauss-Legendre
+    // panels in angle, each accepted when its two halves agree with it.
+    drop(add);
+    let used = n * factor as usize;
+    adaptive_angles(span, factor, acc, used, value, &mut ray, &converged)
+}
+
+/// Rays of the periodic trapezoid rule before switching to adaptive panels.
+const TRAPEZOID_RAYS: usize = 512;
+
+#[allow(clippy::too_many_arguments)]
+fn adaptive_angles<const N: usize, R, C>(
+    span: f64,
+    factor: f64,
+    acc: &Accuracy,
+    mut used: usize,
+    first_guess: [f64; N],
+    ray: &mut R,
+    converged: &C,
+) -> Result<([f64; N], [f64; N], usize), NumericalError>
+where
+    R: FnMut(f64) -> Result<[f64; N], NumericalError>,
+    C: Fn(&[f64; N], &[f64; N]) -> bool,
+{
+    let norm = 1.0 / (4.0 * PI * PI);
+    let rule = PanelRule::new(8);
+    let mut panel = |a: f64, b: f64, used: &mut usize| -> Result<[f64; N], NumericalError> {
+        let mut out = [0.0; N];
+        let mut failure = None;
+        rule.for_each_node(a, b, |th, w| {
+            if failure.is_some() {
+                return;
+            }
+            match ray(th) {
+                Ok(v) => {
+                    for i in 0..N {
+                        out[i] += w * v[i];
+                    }
+                }
+                Err(e) => failure = Some(e),
+            }
+        });
+        *used += rule.nodes.len();
+        match failure {
+            Some(e) => Err(e),
+            None => Ok(out.map(|x| factor * x * norm)),
+        }
+    };
+    let n0 = 32;
+    let mut stack: Vec<(f64, f64, [f64; N])> = Vec::new();
+    for j in 0..n0 {
+        let (a, b) = (
+            span * j as f64 / n0 as f64,
+            span * (j + 1) as f64 / n0 as f64,
+        );
+        let v = panel(a, b, &mut used)?;
+        stack.push((a, b, v));
+    }
+    let budget = acc.max_rays.max(1 << 17);
+    let mut total = [0.0; N];
+    let mut total_change = [0.0; N];
+    let guess = first_guess;
+    while let Some((a, b, coarse)) = stack.pop() {
+        if used > budget {
+            return Err(NumericalError::NotConverged {
+                what: "shell integral over the ray angle (adaptive panels)".into(),
+                iterations: used,
+                last_change: f64::NAN,
+                target: acc.rtol * guess[0].abs(),
+            });
+        }
+        let m = 0.5 * (a + b);
+        let l = panel(a, m, &mut used)?;
+        let r = panel(m, b, &mut used)?;
+        let mut fine = [0.0; N];
+        let mut scaled = [0.0; N];
+        for i in 0..N {
+            fine[i] = l[i] + r[i];
+            scaled[i] = (fine[i] - coarse[i]).abs() * span / (b - a);
+        }
+        if converged(&scaled, &guess) || b - a < 1e-9 * span {
+            for i in 0..N {
+                total[i] += fine[i];
+                total_change[i] += (fine[i] - coarse[i]).abs();
+            }
+        } else {
+            stack.push((a, m, l));
+            stack.push((m, b, r));
+        }
+    }
+    Ok((total, total_change, used))
 }
 
 /// int_shell d^2k/(2 pi)^2 f(k, point) with thermal features of energy width `energy_scale` at

@@ -207,7 +207,9 @@ mod tests {
         assert!(name.starts_with(".fig.png.tmp-"), "{name}");
         let bare = temp_sibling(Path::new("notes")).unwrap();
         assert_eq!(bare.parent().unwrap(), Path::new("."));
-        assert!(bare.extension().is_none());
+        let bare_name = bare.file_name().unwrap().to_string_lossy().into_owned();
+        let suffix = bare_name.strip_prefix(".notes.tmp-").unwrap();
+        assert!(suffix.chars().all(|ch| ch.is_ascii_digit() || ch == '-'));
         assert_ne!(
             temp_sibling(Path::new("a.svg")).unwrap(),
             temp_sibling(Path::new("a.svg")).unwrap()

@@ -1,24 +1,277 @@
-//! Scan reports: CSV and JSON tables (with provenance header) and the Tc figures of a sweep.
+//! Scan reports: CSV and JSON tables (JSON with a provenance header) and the figures of a sweep:
+//! Tc against one parameter with the uniform and modulated curves and the Lifshitz point, or a
+//! colour map of Tc over two parameters with the region where the modulated state wins outlined.
 
+use super::atomic::write_atomic;
+use super::figures::{write_line_plot, write_map_plot, Dash, LinePlot, MapPlot, Marker, Series};
+use super::tables::{header, scan_columns, scan_rows, text_table};
 use crate::config::ConfigSource;
 use crate::model::Model;
 use crate::solvers::tc_channel::Method;
 use crate::sweeps::tc_scan::ScanPoint;
 use crate::sweeps::Grid;
+use crate::units::mev_to_kelvin;
+use serde_json::{json, Value};
 use std::path::{Path, PathBuf};
 
-pub fn write_scan(
-    _src: &ConfigSource,
-    _m: &Model,
-    _g: &Grid,
-    _p: &[ScanPoint],
-    _method: Method,
-    _out: &Path,
-    _stem: &str,
-) -> Result<Vec<PathBuf>, String> {
-    Ok(vec![])
+/// Unit of a swept key, for axis labels.
+pub fn key_unit(key: &str) -> &'static str {
+    match key {
+        "offset" | "cutoff" => "meV",
+        "mass" => "m_e",
+        "velocity" | "vf" => "meV nm",
+        "kf" | "center" => "1/nm",
+        "angle" | "phase" => "deg",
+        "g" => "meV nm^2",
+        "a" | "b" => "nm",
+        _ => "",
+    }
 }
 
-pub fn summary(_m: &Model, _g: &Grid, _p: &[ScanPoint]) -> String {
-    String::new()
+fn axis_label(grid: &Grid, i: usize) -> String {
+    let a = &grid.axes[i];
+    let u = key_unit(&a.key);
+    if u.is_empty() {
+        a.path()
+    } else {
+        format!("{} ({u})", a.path())
+    }
+}
+
+/// The Lifshitz point of a 1D curve of one channel: where q* first becomes non-zero (between the
+/// last uniform and the first modulated point; the midpoint is reported).
+pub fn lifshitz_on_curve(points: &[ScanPoint], channel: usize) -> Option<(f64, f64)> {
+    let state = |p: &ScanPoint| {
+        p.result
+            .as_ref()
+            .ok()
+            .and_then(|r| r.get(channel))
+            .map(|c| (c.modulated_wins(), c.modulated.tc.tc, c.uniform.tc))
+    };
+    for w in points.windows(2) {
+        if let (Some(a), Some(b)) = (state(&w[0]), state(&w[1])) {
+            if a.0 != b.0 && a.2 > 0.0 {
+                let x = 0.5 * (w[0].values[0] + w[1].values[0]);
+                let t = 0.5 * (if a.0 { a.1 } else { a.2 } + if b.0 { b.1 } else { b.2 });
+                return Some((x, mev_to_kelvin(t)));
+            }
+        }
+    }
+    None
+}
+
+/// Writes `<stem>.csv`, `<stem>.json` and the figures into `out`; returns the paths written.
+pub fn write_scan(
+    src: &ConfigSource,
+    m: &Model,
+    grid: &Grid,
+    points: &[ScanPoint],
+    method: Method,
+    out: &Path,
+    stem: &str,
+) -> Result<Vec<PathBuf>, String> {
+    let labels: Vec<String> = m.channels.iter().map(|c| c.label.clone()).collect();
+    let mut written = Vec::new();
+    // CSV
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let io = |e: csv::Error| format!("cannot format the CSV: {e}");
+    w.write_record(scan_columns(grid)).map_err(io)?;
+    for r in scan_rows(points, &labels) {
+        w.write_record(r).map_err(io)?;
+    }
+    let bytes = w
+        .into_inner()
+        .map_err(|e| format!("cannot format the CSV: {e}"))?;
+    let csv_path = out.join(format!("{stem}.csv"));
+    write_atomic(&csv_path, &bytes)
+        .map_err(|e| format!("cannot write {}: {e}", csv_path.display()))?;
+    written.push(csv_path);
+    // JSON
+    let mut v = header(src, "scan");
+    v["method"] = json!(method);
+    v["vary"] = Value::Array(
+        grid.axes
+            .iter()
+            .map(|a| json!({"path": a.path(), "from": a.from, "to": a.to, "n": a.n, "unit": key_unit(&a.key)}))
+            .collect(),
+    );
+    v["note"] = json!("g is fixed at the base configuration (lambda converted there); q* is known to fewer digits than Tc");
+    v["points"] = Value::Array(
+        points
+            .iter()
+            .map(|p| match &p.result {
+                Ok(chs) => json!({
+                    "values": p.values,
+                    "status": "ok",
+                    "channels": chs.iter().zip(&m.channels).map(|(r, c)| super::tables::channel_tc_json(m, c, r)).collect::<Vec<_>>(),
+                }),
+                Err(e) => json!({"values": p.values, "status": "failed", "reason": e}),
+            })
+            .collect(),
+    );
+    if grid.axes.len() == 1 {
+        v["lifshitz"] = Value::Array(
+            (0..labels.len())
+                .map(|c| match lifshitz_on_curve(points, c) {
+                    Some((x, t)) => json!({"channel": labels[c], "value": x, "temperature_K": t}),
+                    None => json!({"channel": labels[c], "value": null, "temperature_K": null}),
+                })
+                .collect(),
+        );
+    }
+    let json_path = out.join(format!("{stem}.json"));
+    write_atomic(
+        &json_path,
+        serde_json::to_string_pretty(&v)
+            .unwrap_or_default()
+            .as_bytes(),
+    )
+    .map_err(|e| format!("cannot write {}: {e}", json_path.display()))?;
+    written.push(json_path);
+    // Figures, one per channel.
+    for (c, label) in labels.iter().enumerate() {
+        let fig_stem = out.join(format!("{stem}_tc_{label}"));
+        if grid.axes.len() == 1 {
+            let mut uni = Vec::new();
+            let mut md = Vec::new();
+            for p in points {
+                let y = p.result.as_ref().ok().and_then(|r| r.get(c));
+                let x = p.values[0];
+                match y {
+                    Some(r) => {
+                        uni.push((
+                            x,
+                            if r.uniform.tc > 0.0 {
+                                mev_to_kelvin(r.uniform.tc)
+                            } else {
+                                f64::NAN
+                            },
+                        ));
+                        md.push((
+                            x,
+                            if r.modulated.tc.tc > 0.0 {
+                                mev_to_kelvin(r.modulated.tc.tc)
+                            } else {
+                                f64::NAN
+                            },
+                        ));
+                    }
+                    None => {
+                        uni.push((x, f64::NAN));
+                        md.push((x, f64::NAN));
+                    }
+                }
+            }
+            let mut markers = Vec::new();
+            if let Some((x, t)) = lifshitz_on_curve(points, c) {
+                markers.push(Marker {
+                    label: "Lifshitz point (q* leaves 0)".into(),
+                    x,
+                    y: t,
+                    color: 3,
+                });
+            }
+            let plot = LinePlot {
+                title: format!("Critical temperature, channel {label}"),
+                x_label: axis_label(grid, 0),
+                y_label: "Tc (K)".into(),
+                series: vec![
+                    Series {
+                        label: "uniform (q = 0)".into(),
+                        points: uni,
+                        dash: Dash::Dashed,
+                        color: 0,
+                    },
+                    Series {
+                        label: "modulated (max over q)".into(),
+                        points: md,
+                        dash: Dash::Solid,
+                        color: 1,
+                    },
+                ],
+                markers,
+                bands: vec![],
+                notes: vec![
+                    format!("method: {method:?}"),
+                    "g fixed at the base configuration".into(),
+                ],
+            };
+            write_line_plot(&plot, &fig_stem).map_err(|e| e.to_string())?;
+        } else {
+            let (xs, ys) = (grid.axes[0].values(), grid.axes[1].values());
+            let mut values = Vec::new();
+            let mut outline = Vec::new();
+            for p in points {
+                match p.result.as_ref().ok().and_then(|r| r.get(c)) {
+                    Some(r) => {
+                        values.push(Some(mev_to_kelvin(r.modulated.tc.tc)));
+                        outline.push(r.modulated_wins());
+                    }
+                    None => {
+                        values.push(None);
+                        outline.push(false);
+                    }
+                }
+            }
+            let plot = MapPlot {
+                title: format!("Critical temperature, channel {label}"),
+                x_label: axis_label(grid, 0),
+                y_label: axis_label(grid, 1),
+                colorbar_label: "Tc (K), max over q".into(),
+                xs,
+                ys,
+                values,
+                outline,
+                outline_label: "modulated state wins (q* != 0)".into(),
+                series: vec![],
+                markers: vec![],
+            };
+            write_map_plot(&plot, &fig_stem).map_err(|e| e.to_string())?;
+        }
+        written.push(fig_stem.with_extension("png"));
+        written.push(fig_stem.with_extension("svg"));
+    }
+    Ok(written)
+}
+
+/// A short text summary of a scan for the terminal.
+pub fn summary(m: &Model, grid: &Grid, points: &[ScanPoint]) -> String {
+    let failed = points.iter().filter(|p| p.result.is_err()).count();
+    let mut s = format!("{} points, {} failed\n", points.len(), failed);
+    if grid.axes.len() == 1 {
+        for (c, ch) in m.channels.iter().enumerate() {
+            let mut best: Option<(f64, f64)> = None;
+            for p in points {
+                if let Some(r) = p.result.as_ref().ok().and_then(|r| r.get(c)) {
+                    if best.is_none_or(|b| r.modulated.tc.tc > b.1) {
+                        best = Some((p.values[0], r.modulated.tc.tc));
+                    }
+                }
+            }
+            let rows = vec![vec![
+                ch.label.clone(),
+                best.map(|b| {
+                    format!(
+                        "{:.4} K at {} = {}",
+                        mev_to_kelvin(b.1),
+                        grid.axes[0].path(),
+                        b.0
+                    )
+                })
+                .unwrap_or("-".into()),
+                lifshitz_on_curve(points, c)
+                    .map(|(x, t)| format!("{} = {x:.4}, T = {t:.4} K", grid.axes[0].path()))
+                    .unwrap_or("none in range".into()),
+            ]];
+            s += &text_table(&["channel", "highest Tc", "Lifshitz point"], &rows);
+        }
+    }
+    for p in points.iter().filter(|p| p.result.is_err()).take(5) {
+        s += &format!(
+            "failed at {:?}: {}\n",
+            p.values,
+            p.result.as_ref().err().unwrap()
+        );
+    }
+    s
 }

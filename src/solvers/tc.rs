@@ -38,7 +38,7 @@ impl Default for TcSolver {
             uniform_floor: 1e-4,
             modulated_floor: 5e-3,
             q_points: 16,
-            directions: 12,
+            directions: 6,
         }
     }
 }
