@@ -160,7 +160,7 @@ fn region_plot() -> RegionPlot {
             label: "metastability (spinodals)".into(),
             lower: tt.iter().map(|&t| (d1(t) - 0.12 * (1.0 - t), t)).collect(),
             upper: tt.iter().map(|&t| (d1(t) + 0.1 * (1.0 - t), t)).collect(),
-            color: 1,
+            color: 0,
         }],
         markers: vec![Marker {
             label: "tricritical point".into(),

@@ -188,3 +188,43 @@ fn susceptibility_is_even_in_q_and_continuous_at_zero() {
     let d2 = chi([2e-4, 0.0]) - c0;
     assert!((d2 / d1 - 4.0).abs() < 0.05, "ratio {}", d2 / d1);
 }
+
+/// The shell integral against an independent integrator: for the equal-mass reference pair the
+/// pair density of states is constant, so chi(0, T) = nu int_{-Lambda}^{Lambda} dxi
+/// [f(h - xi) - f(h + xi)]/(2 xi), integrated here by the quadrature crate's double-exponential
+/// rule from the plain Fermi functions (relative 1e-9: both integrate to far better than that).
+#[test]
+fn susceptibility_agrees_with_an_independent_integrator() {
+    let (_, m) = common::nested_pair(0.25, 5.0, 100.0, 0.07);
+    let ch = &m.channels[0];
+    let (t, h, cutoff) = (0.06, 0.07, 5.0);
+    let acc = Accuracy {
+        rtol: 1e-10,
+        ..Accuracy::default()
+    };
+    let ours = susceptibility(&Shell::for_channel(&m, ch, [0.0, 0.0]).unwrap(), t, &acc)
+        .unwrap()
+        .value;
+    let f = |e: f64| 1.0 / ((e / t).exp() + 1.0);
+    let integrand = |x: f64| {
+        if x.abs() < 1e-9 {
+            let e = h;
+            (e / t).exp() / (t * ((e / t).exp() + 1.0).powi(2))
+        } else {
+            (f(h - x) - f(h + x)) / (2.0 * x)
+        }
+    };
+    // Split at the thermal features xi = -h, 0, h so that the rule sees smooth pieces.
+    let pts = [-cutoff, -h, 0.0, h, cutoff];
+    let mut total = 0.0;
+    for w in pts.windows(2) {
+        let out = quadrature::double_exponential::integrate(integrand, w[0], w[1], 1e-13);
+        assert!(out.error_estimate < 1e-10);
+        total += out.integral;
+    }
+    let reference = ch.nu * total;
+    assert!(
+        (ours / reference - 1.0).abs() < 1e-9,
+        "{ours} vs {reference}"
+    );
+}

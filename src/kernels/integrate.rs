@@ -103,7 +103,7 @@ where
     let mut n = if factor > 1.0 { full_min / 2 } else { full_min };
     let mut sum = [0.0; N];
     let mut add = |sum: &mut [f64; N], theta: f64, w: f64| -> Result<(), NumericalError> {
-        let v = (&mut ray)(theta)?;
+        let v = ray(theta)?;
         for i in 0..N {
             sum[i] += w * v[i];
         }
@@ -138,7 +138,6 @@ where
     }
     // Sharp angular structure (low T, q != 0, anisotropic pockets): adaptive Gauss-Legendre
     // panels in angle, each accepted when its two halves agree with it.
-    drop(add);
     let used = n * factor as usize;
     adaptive_angles(span, factor, acc, used, value, &mut ray, &converged)
 }

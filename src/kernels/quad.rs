@@ -84,7 +84,7 @@ pub struct Feature {
 pub fn graded_breakpoints(lo: f64, hi: f64, features: &[Feature], growth: f64, out: &mut Vec<f64>) {
     out.clear();
     out.push(lo);
-    if !(hi > lo) {
+    if hi.partial_cmp(&lo) != Some(std::cmp::Ordering::Greater) {
         return;
     }
     let mut inner: Vec<Feature> = features

@@ -26,7 +26,7 @@ pub fn pair_kernel(xi: f64, h: f64, t: f64) -> f64 {
 
 /// chi(q, T) of the shell (its q is fixed at construction), T = k_B T in meV.
 pub fn susceptibility(shell: &Shell, t: f64, acc: &Accuracy) -> Result<Estimate, NumericalError> {
-    if !(t > 0.0) {
+    if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
         return Err(NumericalError::Invalid(format!(
             "the susceptibility needs T > 0 (got {t} meV)"
         )));

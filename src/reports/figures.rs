@@ -254,6 +254,8 @@ fn fonts_ready() -> bool {
 
 /// PNGs are rendered at this multiple of their final size and averaged down.
 const SUPERSAMPLE: u32 = 2;
+/// SVG user units per pixel of the declared size.
+const SVG_SCALE: u32 = 4;
 
 /// A figure that can draw itself on any plotters backend.
 trait Figure {
@@ -337,16 +339,23 @@ fn write_figure<F: Figure>(fig: &F, stem: &Path) -> Result<(), FigureError> {
     })
 }
 
+/// Draws the SVG with `SVG_SCALE` user units per final pixel (plotters' coordinates are integers;
+/// this keeps curves smooth) and declares the final size on the root element.
 fn render_svg<F: Figure>(fig: &F, w: u32, h: u32) -> Result<String, String> {
+    let (sw, sh) = (w * SVG_SCALE, h * SVG_SCALE);
     let mut text = String::new();
     let images;
     {
-        let area = SVGBackend::with_string(&mut text, (w, h)).into_drawing_area();
-        let mut c = Canvas::new(&area, 1.0, true);
+        let area = SVGBackend::with_string(&mut text, (sw, sh)).into_drawing_area();
+        let mut c = Canvas::new(&area, SVG_SCALE as f64, true);
         c.clear()?;
         fig.draw(&mut c)?;
         images = std::mem::take(&mut c.images);
         area.present().msg()?;
+    }
+    let drawn = format!("<svg width=\"{sw}\" height=\"{sh}\"");
+    if text.starts_with(&drawn) {
+        text.replace_range(..drawn.len(), &format!("<svg width=\"{w}\" height=\"{h}\""));
     }
     Ok(splice_images(text, &images))
 }
@@ -511,6 +520,22 @@ impl<'a, DB: DrawingBackend> Canvas<'a, DB> {
         self.area
             .draw(&Rectangle::new([a, b], color.filled()))
             .msg()
+    }
+
+    /// A tile of a mosaic (map cells, colour-bar steps).  On SVG each tile overlaps its right and
+    /// lower neighbours by one pixel (staying inside `bound`), so that anti-aliased edges do not
+    /// leave light seams.
+    fn fill_tile(&self, r: Rect, color: RGBAColor, bound: &Rect) -> DrawResult {
+        if self.svg {
+            let d = self.p(1.0);
+            let (right, bottom) = (
+                (r.r + d).min(bound.r.max(r.r)),
+                (r.b + d).min(bound.b.max(r.b)),
+            );
+            self.fill_rect(Rect::new(r.l, r.t, right, bottom), color)
+        } else {
+            self.fill_rect(r, color)
+        }
     }
 
     fn stroke_rect(&self, r: Rect, color: RGBAColor, width: f64) -> DrawResult {
@@ -766,7 +791,7 @@ fn ticks(lo: f64, hi: f64, target: usize) -> (Vec<f64>, f64) {
 /// very small magnitudes.  Uses a true minus sign.
 fn tick_labels(values: &[f64], step: f64) -> Vec<String> {
     let mag = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let sci = mag >= 1e5 || (mag > 0.0 && mag < 1e-3);
+    let sci = mag >= 1e6 || (mag > 0.0 && mag < 1e-3);
     values
         .iter()
         .map(|&v| {
@@ -1060,7 +1085,7 @@ const LINE_PALETTE: [RGBColor; 8] = [
 ];
 
 /// Light fills for categorical regions (lines and text stay readable on top).
-const REGION_PALETTE: [RGBColor; 8] = [
+const REGION_PALETTE: [RGBColor; 12] = [
     RGBColor(198, 219, 239),
     RGBColor(253, 208, 162),
     RGBColor(199, 233, 192),
@@ -1069,6 +1094,10 @@ const REGION_PALETTE: [RGBColor; 8] = [
     RGBColor(255, 237, 160),
     RGBColor(204, 236, 230),
     RGBColor(230, 220, 200),
+    RGBColor(235, 205, 240),
+    RGBColor(215, 235, 160),
+    RGBColor(175, 215, 225),
+    RGBColor(240, 225, 215),
 ];
 
 fn line_color(i: usize) -> RGBColor {
@@ -1149,7 +1178,7 @@ fn draw_title<DB: DrawingBackend>(
     region: Rect,
 ) -> Result<f64, String> {
     if title.trim().is_empty() {
-        return Ok(region.t);
+        return Ok(region.t + c.p(PAD));
     }
     let max_w = region.w() - c.p(2.0 * PAD);
     let mut size = TITLE_SIZE;
@@ -1493,7 +1522,7 @@ fn draw_swatch<DB: DrawingBackend>(c: &Canvas<'_, DB>, sw: Swatch, x: f64, yc: f
         Swatch::Marker(col, shape, halo) => draw_marker(c, (x + w / 2.0, yc), shape, col, halo),
         Swatch::Outline => {
             c.fill_rect(r, colormap(0.45).to_rgba())?;
-            hatch_rect(c, r)?;
+            hatch_rect(c, r, hatch_color(colormap(0.45)))?;
             let pts = [(r.l, r.t), (r.r, r.t), (r.r, r.b), (r.l, r.b), (r.l, r.t)];
             c.path(&pts, BLACK.to_rgba(), 4.0, Dash::Solid)?;
             c.path(&pts, WHITE.to_rgba(), 1.8, Dash::Solid)
@@ -1720,15 +1749,16 @@ fn draw_colorbar<DB: DrawingBackend>(
         frame.r + c.p(CBAR_GAP + CBAR_W),
         frame.b,
     );
-    let rows = bar.h().round().max(1.0) as usize;
+    let rows = bar.h().round().clamp(1.0, 256.0) as usize;
     let step = bar.h() / rows as f64;
     for k in 0..rows {
         let t = (k as f64 + 0.5) / rows as f64;
         let y1 = bar.b - k as f64 * step;
         let y0 = bar.b - (k + 1) as f64 * step;
-        c.fill_rect(
+        c.fill_tile(
             Rect::new(bar.l, y0.floor(), bar.r, y1.ceil()),
             colormap(t).to_rgba(),
+            &bar,
         )?;
     }
     c.stroke_rect(bar, BLACK.to_rgba(), 1.0)?;
@@ -1770,12 +1800,11 @@ fn draw_colorbar<DB: DrawingBackend>(
 
 /// Diagonal white hatching inside a device rectangle; the line family is global, so adjacent
 /// rectangles join seamlessly.
-fn hatch_rect<DB: DrawingBackend>(c: &Canvas<'_, DB>, r: Rect) -> DrawResult {
+fn hatch_rect<DB: DrawingBackend>(c: &Canvas<'_, DB>, r: Rect, color: RGBAColor) -> DrawResult {
     if ![r.l, r.t, r.r, r.b].iter().all(|v| v.is_finite()) {
         return Ok(());
     }
     let sp = c.p(7.0);
-    let color = rgba(WHITE, 0.6);
     let mut k = ((r.l + r.t) / sp).ceil();
     while k * sp <= r.r + r.b {
         let cc = k * sp;
@@ -1787,6 +1816,16 @@ fn hatch_rect<DB: DrawingBackend>(c: &Canvas<'_, DB>, r: Rect) -> DrawResult {
         k += 1.0;
     }
     Ok(())
+}
+
+/// Hatching colour that shows on a background: white on dark colours, black on light ones.
+fn hatch_color(bg: RGBColor) -> RGBAColor {
+    let lum = (0.2126 * bg.0 as f64 + 0.7152 * bg.1 as f64 + 0.0722 * bg.2 as f64) / 255.0;
+    if lum > 0.62 {
+        rgba(BLACK, 0.4)
+    } else {
+        rgba(WHITE, 0.6)
+    }
 }
 
 /// Boundary of the `true` cells of a grid mask as chains of lattice vertices `(i, j)` (cell
@@ -1883,7 +1922,7 @@ fn draw_cells<DB: DrawingBackend>(
             let a = cell_rect(f, xe, ye, start, iy);
             let b = cell_rect(f, xe, ye, ix - 1, iy);
             let r = Rect::new(a.l.min(b.l), a.t, a.r.max(b.r), a.b);
-            c.fill_rect(r, col.to_rgba())?;
+            c.fill_tile(r, col.to_rgba(), &f.px)?;
         }
     }
     Ok(())
@@ -1896,23 +1935,27 @@ fn draw_mask<DB: DrawingBackend>(
     xe: &[f64],
     ye: &[f64],
     mask: &[bool],
+    colors: &[RGBColor],
 ) -> DrawResult {
     let nx = xe.len() - 1;
     let ny = ye.len() - 1;
+    let hatch: Vec<RGBAColor> = colors.iter().map(|c| hatch_color(*c)).collect();
     for iy in 0..ny {
         let mut ix = 0;
         while ix < nx {
-            if !mask[iy * nx + ix] {
+            let k = iy * nx + ix;
+            if !mask[k] {
                 ix += 1;
                 continue;
             }
             let start = ix;
-            while ix < nx && mask[iy * nx + ix] {
+            while ix < nx && mask[iy * nx + ix] && hatch[iy * nx + ix] == hatch[k] {
                 ix += 1;
             }
             let a = cell_rect(f, xe, ye, start, iy);
             let b = cell_rect(f, xe, ye, ix - 1, iy);
-            hatch_rect(c, Rect::new(a.l.min(b.l), a.t, a.r.max(b.r), a.b))?;
+            let r = Rect::new(a.l.min(b.l), a.t, a.r.max(b.r), a.b);
+            hatch_rect(c, r, hatch[k])?;
         }
     }
     let chains = mask_contours(mask, nx, ny);
@@ -1955,7 +1998,7 @@ fn splice_images(mut svg: String, images: &[EmbeddedImage]) -> String {
         let data = base64(&im.png);
         let tag = format!(
             "<image x=\"{}\" y=\"{}\" width=\"{}\" height=\"{}\" preserveAspectRatio=\"none\" \
-             href=\"data:image/png;base64,{data}\" xlink:href=\"data:image/png;base64,{data}\"/>",
+             xlink:href=\"data:image/png;base64,{data}\"/>",
             im.x, im.y, im.w, im.h
         );
         svg.replace_range(start..end, &tag);
@@ -2187,10 +2230,15 @@ impl Figure for LinePlot {
         let page = Rect::new(0.0, 0.0, w, h);
         let top = draw_title(c, &self.title, page)?;
         let (ex, ey) = self.extents();
-        let empty = ex.is_empty();
         let xpad = if self.markers.is_empty() { 0.0 } else { 0.03 };
-        let xr = ex.range(xpad);
+        let mut xr = ex.range(xpad);
         let mut yr = ey.range(0.06);
+        // Spans beyond the f64 range (values near f64::MAX) cannot be mapped to pixels.
+        let too_large = !(xr.1 - xr.0).is_finite() || !(yr.1 - yr.0).is_finite();
+        if too_large {
+            (xr, yr) = ((0.0, 1.0), (0.0, 1.0));
+        }
+        let empty = ex.is_empty() || too_large;
 
         let entries = self.legend();
         let notes: Vec<String> = self
@@ -2250,20 +2298,30 @@ impl Figure for LinePlot {
         }
 
         draw_grid(c, &frame, &xt, &yt)?;
-        for b in &self.bands {
+        let (bands, series, markers) = if too_large {
+            (&[][..], &[][..], &[][..])
+        } else {
+            (&self.bands[..], &self.series[..], &self.markers[..])
+        };
+        for b in bands {
             draw_band(c, &frame, b)?;
         }
-        for s in &self.series {
+        for s in series {
             draw_series(c, &frame, s, false)?;
         }
-        for (i, m) in self.markers.iter().enumerate() {
+        for (i, m) in markers.iter().enumerate() {
             if frame.inside(m.x, m.y) {
                 draw_marker(c, frame.map(m.x, m.y), i, line_color(m.color), false)?;
             }
         }
         draw_axes(c, &frame, &xt, &yt, &self.x_label, &self.y_label)?;
         if empty {
-            draw_no_data(c, &frame, "no finite data")?;
+            let what = if too_large {
+                "values too large to plot"
+            } else {
+                "no finite data"
+            };
+            draw_no_data(c, &frame, what)?;
         }
         let mut k = 0;
         if !entries.is_empty() {
@@ -2369,7 +2427,7 @@ impl Figure for MapPlot {
                 .collect();
             draw_cells(c, &frame, &xe, &ye, &colors)?;
             if has_outline {
-                draw_mask(c, &frame, &xe, &ye, &self.outline)?;
+                draw_mask(c, &frame, &xe, &ye, &self.outline, &colors)?;
             }
         }
         for s in &self.series {
@@ -2435,7 +2493,7 @@ impl Figure for RegionPlot {
         entries.extend(band_entries(&self.bands));
         entries.extend(marker_entries(&self.markers, false));
 
-        let max_label_w = c.p(230.0);
+        let max_label_w = c.p(260.0);
         let (lw, _) = legend_size(c, &entries, max_label_w);
         let xt = AxisTicks::new(xr, 8);
         let yt = AxisTicks::new(yr, 7);
@@ -2922,6 +2980,8 @@ mod tests {
         let stem = dir.join("line");
         write_line_plot(&line_plot(), &stem).unwrap();
         check_outputs(&stem);
+        let svg = fs::read_to_string(with_suffix(&stem, "svg")).unwrap();
+        assert!(svg.starts_with("<svg width=\"900\" height=\"650\" viewBox=\"0 0 3600 2600\""));
         // Writing again replaces the files.
         write_line_plot(&line_plot(), &stem).unwrap();
         check_outputs(&stem);

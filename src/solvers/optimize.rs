@@ -121,7 +121,7 @@ mod tests {
     fn finds_interior_and_edge_maxima() {
         let m = brent_max("cos", 0.0, 3.0, 1e-10, |x| Ok((x - 1.3f64).cos())).unwrap();
         assert!((m.x - 1.3).abs() < 1e-8 && (m.value - 1.0).abs() < 1e-15);
-        let m = brent_max("edge", 0.0, 1.0, 1e-10, |x| Ok(x)).unwrap();
+        let m = brent_max("edge", 0.0, 1.0, 1e-10, Ok).unwrap();
         assert!(m.x > 1.0 - 1e-8);
         assert!(m.iterations < 100);
     }

@@ -140,6 +140,7 @@ impl TcSolver {
         what: &str,
         t_top: f64,
         t_floor: f64,
+        x_rel: f64,
         mut f: F,
     ) -> Result<Option<(f64, f64, f64)>, NumericalError>
     where
@@ -160,7 +161,7 @@ impl TcSolver {
             let v = f(t)?;
             grid.push((t, v));
             if v >= 0.0 {
-                let r = brent_root(what, t, prev.0, self.t_rel, &mut f)?;
+                let r = brent_root(what, t, prev.0, x_rel, &mut f)?;
                 return Ok(Some((r.x, t, prev.0)));
             }
             if v > best.1 {
@@ -181,7 +182,7 @@ impl TcSolver {
         let m = brent_max(what, lo, hi, 1e-6, |x| f(x.exp()))?;
         if m.value >= 0.0 {
             let tm = m.x.exp();
-            let r = brent_root(what, tm, grid[i - 1].0, self.t_rel, &mut f)?;
+            let r = brent_root(what, tm, grid[i - 1].0, x_rel, &mut f)?;
             return Ok(Some((r.x, tm, grid[i - 1].0)));
         }
         Ok(None)
@@ -225,11 +226,16 @@ impl TcSolver {
         let t_top = self.top_temperature(model, ch, &count)?;
         let floor = self.uniform_floor * t_ref;
         let shell = Shell::for_channel(model, ch, q)?;
-        let found =
-            self.largest_root(&format!("Tc of channel {}", ch.label), t_top, floor, |t| {
+        let found = self.largest_root(
+            &format!("Tc of channel {}", ch.label),
+            t_top,
+            floor,
+            self.t_rel,
+            |t| {
                 count.set(count.get() + 1);
                 Ok(ch.g * susceptibility(&shell, t, &self.acc)?.value - 1.0)
-            })?;
+            },
+        )?;
         match found {
             Some((tc, _, _)) => {
                 let error = self.root_error(model, ch, q, tc, &count)?;
@@ -443,7 +449,7 @@ impl TcSolver {
             let mut w = 0.25 * qm;
             for _ in 0..6 {
                 let (lo, hi) = ((qm - w).max(0.0), qm + w);
-                let m = brent_max("q* magnitude", lo, hi, 1e-7 * hi, |x| eval(at(x, phi)))?;
+                let m = brent_max("q* magnitude", lo, hi, 1e-5 * hi, |x| eval(at(x, phi)))?;
                 let at_edge = (m.x - lo) < 1e-3 * w && lo > 0.0 || (hi - m.x) < 1e-3 * w;
                 qm = m.x;
                 value = m.value;
@@ -454,7 +460,7 @@ impl TcSolver {
             }
             if !iso {
                 let w = 0.3 / (1 << round) as f64;
-                let m = brent_max("q* direction", phi - w, phi + w, 1e-7, |p| eval(at(qm, p)))?;
+                let m = brent_max("q* direction", phi - w, phi + w, 1e-5, |p| eval(at(qm, p)))?;
                 phi = m.x;
                 value = m.value;
             }
@@ -531,7 +537,7 @@ impl TcSolver {
             let t_top = self.top_temperature(model, ch, &count)?;
             let floor = self.modulated_floor * t_ref;
             let best = Cell::new(([0.0, 0.0], 0.0));
-            let found = self.largest_root("modulated Tc (coarse)", t_top, floor, |t| {
+            let found = self.largest_root("modulated Tc (coarse)", t_top, floor, 1e-3, |t| {
                 let (q, v) = self.best_q(model, ch, t, &coarse, &count)?;
                 if v >= 1.0 {
                     best.set((q, t));

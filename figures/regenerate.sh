@@ -1,0 +1,11 @@
+#!/usr/bin/env bash
+# Regenerates every committed figure: the demo (configs/demo_surface.toml, embedded) and one map
+# of the weak-coupling reference pair (configs/reference/nested_parabolic.toml).
+set -euo pipefail
+cd "$(dirname "$0")/.."
+cargo build --release
+./target/release/nestor demo --out figures
+./target/release/nestor scan configs/reference/nested_parabolic.toml \
+  --vary h.offset=100.0:100.3:31 --vary eh.cutoff=4.5:5.5:11 --out figures/map
+cp figures/map/scan_tc_eh.png figures/map_tc_eh.png
+cp figures/map/scan_tc_eh.svg figures/map_tc_eh.svg
