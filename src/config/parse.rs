@@ -242,6 +242,9 @@ fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError>
                 }
                 (true, false) => {
                     let m = scalar_or_pair(&ctx, "mass", &t["mass"], "electron masses", 1e3)?;
+                    if m.iter().any(|&x| x < 1e-3) {
+                        return Err(ctx.err("mass", "out of range: expected masses in [0.001, 1000] electron masses"));
+                    }
                     let offset = offset.ok_or_else(|| {
                         ctx.err("offset", "missing; expected the band-edge energy in meV")
                     })?;
@@ -629,6 +632,12 @@ pub(super) fn build_model(
                 l / nu
             }
         };
+        if line.mismatch.abs() > cutoff {
+            warnings.push(format!(
+                "channel {label}: the mismatch |h| = {:.4} meV exceeds the cutoff {cutoff} meV: the pockets are far from nested and no instability is expected",
+                line.mismatch.abs()
+            ));
+        }
         if g * nu > STRONG_LAMBDA {
             warnings.push(format!(
                 "channel {label}: lambda = g nu = {:.3} > {STRONG_LAMBDA}: strong coupling, where mean-field theory is doubtful",
