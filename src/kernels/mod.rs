@@ -1,6 +1,7 @@
 //! Physics kernels: pure functions of a channel and a parameter point (wavevector, temperature,
 //! gap). Shell geometry and integration rules are shared by all of them.
 
+pub mod grand_potential;
 pub mod integrate;
 pub mod quad;
 pub mod shell;

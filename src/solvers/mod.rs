@@ -3,6 +3,7 @@
 //! value, its error estimate and why it stopped.
 
 pub mod optimize;
+pub mod ordered;
 pub mod roots;
 pub mod tc;
 pub mod tc_channel;
