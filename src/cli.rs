@@ -6,8 +6,10 @@ use nestor::config::{parse_range, ConfigSource, Override};
 use nestor::error::{InputError, NestorError};
 use nestor::model::Model;
 use nestor::reports::{scan as scan_report, tables};
+use nestor::solvers::ordered::{plane_wave_q_scale, spectrum, OrderedSolver};
 use nestor::solvers::tc_channel::{channel_tc, Method};
 use nestor::solvers::TcSolver;
+use nestor::sweeps::phase_map::{phase_diagram, PhaseOptions};
 use nestor::sweeps::{tc_scan::scan_tc, Grid};
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
@@ -37,6 +39,12 @@ pub enum Command {
     /// Uniform and modulated Tc and |q*| over one or two swept parameters, in parallel; writes CSV,
     /// JSON and figures.
     Scan(ScanArgs),
+    /// Self-consistent ordered states at one temperature: every solution of the gap equation
+    /// (uniform and plane-wave), Omega, stability, the chosen state, the quasiparticle gap.
+    Solve(SolveStateArgs),
+    /// Phase diagram of one channel in the (parameter, temperature) plane: normal, uniform and
+    /// modulated regions, second- and first-order lines, spinodal, tricritical and Lifshitz points.
+    Phases(PhasesArgs),
     /// Runs check, tc and a scan on the embedded demonstration surface.
     Demo(DemoArgs),
 }
@@ -96,6 +104,49 @@ pub struct TcArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     pub json: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct SolveStateArgs {
+    #[command(flatten)]
+    pub cfg: ConfigArgs,
+    /// Temperature in K (0 allowed).
+    #[arg(long, value_name = "K")]
+    pub temperature: f64,
+    /// Skip the plane-wave (single-wavevector) search; uniform and normal states only.
+    #[arg(long)]
+    pub uniform_only: bool,
+    /// Print JSON instead of tables.
+    #[arg(long)]
+    pub json: bool,
+}
+
+#[derive(Args, Debug)]
+pub struct PhasesArgs {
+    #[command(flatten)]
+    pub cfg: ConfigArgs,
+    /// The parameter axis, PATH=FROM:TO:N.
+    #[arg(long, value_name = "PATH=FROM:TO:N", required = true)]
+    pub vary: String,
+    /// Highest temperature in K (default: 1.2 times the highest Tc along the axis at its ends and
+    /// middle).
+    #[arg(long, value_name = "K")]
+    pub tmax: Option<f64>,
+    /// Points of the temperature axis (from 0 to tmax).
+    #[arg(long, default_value_t = 41)]
+    pub temperatures: usize,
+    /// Channel name or label (default: the first channel).
+    #[arg(long)]
+    pub channel: Option<String>,
+    /// Skip the plane-wave states (faster; the modulated instability line is still drawn).
+    #[arg(long)]
+    pub uniform_only: bool,
+    /// Output directory.
+    #[arg(long, default_value = "nestor-out")]
+    pub out: PathBuf,
+    /// Worker threads (default: all cores). Results do not depend on it.
+    #[arg(long)]
+    pub threads: Option<usize>,
 }
 
 #[derive(Args, Debug)]
@@ -221,6 +272,55 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             }
             Ok(Outcome::Done)
         }
+        Command::Solve(a) => {
+            let (src, model) = load(&a.cfg)?;
+            if model.channels.is_empty() {
+                return Err(Failure::Input(format!(
+                    "{}: the configuration has no [[channel]]: nothing to solve",
+                    src.origin
+                )));
+            }
+            if !(a.temperature.is_finite() && (0.0..=1e4).contains(&a.temperature)) {
+                return Err(Failure::Input(format!(
+                    "--temperature {}: must lie in [0, 10000] K",
+                    a.temperature
+                )));
+            }
+            let t = nestor::units::kelvin_to_mev(a.temperature);
+            let s = OrderedSolver::default();
+            let mut json_channels = Vec::new();
+            let mut text = String::new();
+            for ch in &model.channels {
+                let qs = (!a.uniform_only).then(|| plane_wave_q_scale(&model, ch, t));
+                let st = s.solve(&model, ch, t, qs).map_err(NestorError::from)?;
+                let spectra = st
+                    .solutions
+                    .iter()
+                    .map(|sol| spectrum(&model, ch, sol))
+                    .collect::<Result<Vec<_>, _>>()
+                    .map_err(NestorError::from)?;
+                json_channels.push(tables::ordered_json(&model, ch, &st, &spectra));
+                text += &tables::ordered_text(ch, &st, &spectra);
+                text.push('\n');
+            }
+            if a.json {
+                let mut v = tables::header(&src, "solve");
+                v["channels"] = serde_json::Value::Array(json_channels);
+                v["warnings"] = serde_json::json!(model.warnings);
+                print_json(&v);
+            } else {
+                print!("{text}");
+                println!("* = chosen state. Delta/g is the interband coherence |<c_a^+ c_b>| per nm^2 and spin channel.");
+            }
+            Ok(Outcome::Done)
+        }
+        Command::Phases(a) => {
+            let (src, model) = load(&a.cfg)?;
+            check_threads(a.threads)?;
+            let range = parse_range(&a.vary)?;
+            let grid = Grid::new(vec![range])?;
+            run_phases(&src, &model, &grid, &a)
+        }
         Command::Scan(a) => {
             let (src, model) = load(&a.cfg)?;
             let s = solver(&a.solve)?;
@@ -302,6 +402,136 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             Ok(outcome)
         }
     }
+}
+
+fn run_phases(
+    src: &ConfigSource,
+    model: &Model,
+    grid: &Grid,
+    a: &PhasesArgs,
+) -> Result<Outcome, Failure> {
+    let channel = match &a.channel {
+        None => 0,
+        Some(n) => model
+            .channels
+            .iter()
+            .position(|c| &c.label == n || c.name.as_ref() == Some(n))
+            .ok_or_else(|| {
+                Failure::Input(format!(
+                    "--channel {n}: no such channel; channels: {}",
+                    model
+                        .channels
+                        .iter()
+                        .map(|c| c.label.clone())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ))
+            })?,
+    };
+    if model.channels.is_empty() {
+        return Err(Failure::Input(format!(
+            "{}: the configuration has no [[channel]]",
+            src.origin
+        )));
+    }
+    if !(2..=401).contains(&a.temperatures) {
+        return Err(Failure::Input(format!(
+            "--temperatures {}: must lie in [2, 401]",
+            a.temperatures
+        )));
+    }
+    let tc = TcSolver::default();
+    let t_max = match a.tmax {
+        Some(t) if t.is_finite() && t > 0.0 && t <= 1e4 => nestor::units::kelvin_to_mev(t),
+        Some(t) => {
+            return Err(Failure::Input(format!(
+                "--tmax {t}: must lie in (0, 10000] K"
+            )))
+        }
+        None => {
+            // 1.2 times the highest modulated Tc at the ends and the middle of the axis.
+            let pinned = model.pinned_couplings();
+            let mut best: f64 = 0.0;
+            for i in [0, grid.len() / 2, grid.len() - 1] {
+                let m = nestor::sweeps::model_at(src, &pinned, grid, i)?;
+                let ch = &m.channels[channel];
+                let u = tc.uniform(&m, ch).map_err(NestorError::from)?;
+                best = best.max(u.tc);
+                let md = tc.modulated(&m, ch, &u).map_err(NestorError::from)?;
+                best = best.max(md.tc.tc);
+            }
+            if best <= 0.0 {
+                return Err(Failure::Input(
+                    "phases: no instability at the ends or the middle of the axis; give --tmax"
+                        .into(),
+                ));
+            }
+            1.2 * best
+        }
+    };
+    std::fs::create_dir_all(&a.out).map_err(|e| {
+        Failure::Input(format!(
+            "--out {}: cannot create the directory: {e}",
+            a.out.display()
+        ))
+    })?;
+    let opts = PhaseOptions {
+        channel,
+        t_max,
+        temperatures: a.temperatures,
+        modulated: !a.uniform_only,
+        threads: a.threads,
+        progress: std::io::stderr().is_terminal(),
+    };
+    let d = phase_diagram(src, model, grid, &opts, &tc, &OrderedSolver::default())?;
+    let stem = format!("phases_{}", model.channels[channel].label);
+    let written = nestor::reports::phases::write_phases(src, model, grid, &d, &a.out, &stem)
+        .map_err(Failure::Input)?;
+    for w in &written {
+        println!("wrote {}", w.display());
+    }
+    let k = nestor::units::mev_to_kelvin;
+    match d.tricritical {
+        Some(p) => println!(
+            "tricritical point: {} = {:.5}, T = {:.4} K{}",
+            grid.axes[0].path(),
+            p.value,
+            k(p.t),
+            if p.on_boundary {
+                ""
+            } else {
+                " (preempted by the modulated state)"
+            }
+        ),
+        None => println!("tricritical point: none in range"),
+    }
+    match d.lifshitz {
+        Some(p) => println!(
+            "Lifshitz point: {} = {:.5}, T = {:.4} K{}",
+            grid.axes[0].path(),
+            p.value,
+            k(p.t),
+            if p.on_boundary {
+                ""
+            } else {
+                " (the uniform line is not second order there)"
+            }
+        ),
+        None => println!("Lifshitz point: none in range"),
+    }
+    let failed_cols = d.columns.iter().filter(|c| c.is_err()).count();
+    let failed_cells: usize = d
+        .columns
+        .iter()
+        .filter_map(|c| c.as_ref().ok())
+        .map(|c| c.cells.iter().filter(|x| x.is_err()).count())
+        .sum();
+    if failed_cols + failed_cells > 0 {
+        return Ok(Outcome::PartlyFailed(format!(
+            "{failed_cols} columns and {failed_cells} grid points failed (reasons in the CSV)"
+        )));
+    }
+    Ok(Outcome::Done)
 }
 
 /// The demo scan range of the Dirac point of pocket G, meV.

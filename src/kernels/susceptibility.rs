@@ -9,19 +9,36 @@ use crate::kernels::shell::Shell;
 /// [f(eps_b) - f(eps_a)] / (eps_a - eps_b) with eps_a = h + xi, eps_b = h - xi, written without
 /// cancellation or overflow: sinh(|xi|/T) / (2 |xi| [cosh(xi/T) + cosh(h/T)]) (numerics.md), with
 /// the limit 1/(2T [1 + cosh(h/T)]) at xi = 0. Units 1/meV.
+///
+/// With a = |xi|/T, b = |h|/T, m = max(a, b), p = e^{-|a - b|} and r = e^{-2 min(a, b)}, the
+/// four exponentials e^{+-a-m}, e^{+-b-m} are 1, p, p r and p^2 r in some order, so two exp()
+/// calls suffice: 2 (cosh a + cosh b) e^{-m} = 1 + p + p r + p^2 r and
+/// 2 sinh(a) e^{-m} = (1 - e^{-2a}) (1 when a >= b, else p).
 #[inline]
 pub fn pair_kernel(xi: f64, h: f64, t: f64) -> f64 {
     let a = xi.abs() / t;
     let b = h.abs() / t;
-    let m = a.max(b);
-    let denom = (a - m).exp() + (-a - m).exp() + (b - m).exp() + (-b - m).exp();
-    // 2 sinh(a) e^{-m} / a, with the series where a is small; denom = 2 (cosh a + cosh b) e^{-m}.
-    let s = if a < 1e-4 {
-        2.0 * (1.0 + a * a / 6.0) * (-m).exp()
+    let d = (a - b).abs();
+    let lo = a.min(b);
+    // Arguments beyond 700 give factors below 1e-304 next to terms of order one: set them to
+    // zero rather than take the slow underflow path of exp().
+    let p = if d < 700.0 { (-d).exp() } else { 0.0 };
+    let r = if lo < 350.0 { (-2.0 * lo).exp() } else { 0.0 };
+    let pr = p * r;
+    let denom = 1.0 + p + pr + p * pr;
+    // e^{-2a}: p^2 r when a >= b (lo = b), r when a < b (lo = a).
+    let (lead, e2a) = if a >= b { (1.0, p * pr) } else { (p, r) };
+    // (1 - e^{-2a}) / a, with expm1 where a is small (no cancellation) and the limit 2 at a = 0.
+    let s = if a < 0.25 {
+        if a > 0.0 {
+            -(-2.0 * a).exp_m1() / a
+        } else {
+            2.0
+        }
     } else {
-        ((a - m).exp() - (-a - m).exp()) / a
+        (1.0 - e2a) / a
     };
-    s / (2.0 * denom * t)
+    lead * s / (2.0 * denom * t)
 }
 
 /// chi(q, T) of the shell (its q is fixed at construction), T = k_B T in meV.

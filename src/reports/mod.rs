@@ -2,5 +2,6 @@
 
 pub mod atomic;
 pub mod figures;
+pub mod phases;
 pub mod scan;
 pub mod tables;

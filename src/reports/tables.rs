@@ -444,3 +444,98 @@ pub fn scan_rows(points: &[ScanPoint], channel_labels: &[String]) -> Vec<Vec<Str
     }
     rows
 }
+
+/// One channel's ordered states as JSON (Omega as the total over spin channels).
+pub fn ordered_json(
+    m: &Model,
+    c: &Channel,
+    st: &crate::solvers::ordered::OrderedStates,
+    spectra: &[crate::solvers::ordered::Spectrum],
+) -> Value {
+    let sols: Vec<Value> = st
+        .solutions
+        .iter()
+        .zip(spectra)
+        .map(|(s, sp)| {
+            json!({
+                "state": s.state,
+                "delta_meV": s.delta,
+                "q_per_nm": s.q,
+                "omega_meV_per_nm2": c.spin_channels * s.omega,
+                "omega_error_meV_per_nm2": c.spin_channels * s.omega_error,
+                "stability": s.stability,
+                "quasiparticle_gap_meV": sp.gap,
+                "gapless": s.delta > 0.0 && sp.gap.is_none(),
+                "gapless_arcs_deg": sp.gapless_arcs_deg,
+                "coherence_per_nm2": s.delta / c.g,
+            })
+        })
+        .collect();
+    json!({
+        "label": c.label,
+        "pockets": [m.pockets[c.a].name, m.pockets[c.b].name],
+        "spin_channels": c.spin_channels,
+        "g_meV_nm2": c.g,
+        "lambda": c.lambda(),
+        "mismatch_meV": c.mismatch,
+        "temperature_K": kelvin(st.t),
+        "solutions": sols,
+        "chosen": st.chosen,
+    })
+}
+
+/// One channel's ordered states as text.
+pub fn ordered_text(
+    c: &Channel,
+    st: &crate::solvers::ordered::OrderedStates,
+    spectra: &[crate::solvers::ordered::Spectrum],
+) -> String {
+    let rows: Vec<Vec<String>> = st
+        .solutions
+        .iter()
+        .zip(spectra)
+        .enumerate()
+        .map(|(i, (s, sp))| {
+            vec![
+                format!(
+                    "{}{}",
+                    if i == st.chosen { "* " } else { "" },
+                    format!("{:?}", s.state).to_lowercase()
+                ),
+                g4(s.delta),
+                if s.q == [0.0, 0.0] {
+                    "0".into()
+                } else {
+                    format!("({}, {})", g4(s.q[0]), g4(s.q[1]))
+                },
+                g4(c.spin_channels * s.omega),
+                format!("{:?}", s.stability).to_lowercase(),
+                match (s.delta > 0.0, sp.gap) {
+                    (false, _) => "-".into(),
+                    (true, Some(g)) => g4(g),
+                    (true, None) => format!("gapless ({} arcs)", sp.gapless_arcs_deg.len()),
+                },
+                g4(s.delta / c.g),
+            ]
+        })
+        .collect();
+    let mut s = format!(
+        "channel {} at T = {} K (Omega total over {} spin channel(s), relative to the normal state)\n",
+        c.label,
+        g4(kelvin(st.t)),
+        c.spin_channels
+    );
+    s += &text_table(
+        &[
+            "state",
+            "Delta meV",
+            "q 1/nm",
+            "Omega meV/nm^2",
+            "stability",
+            "qp gap meV",
+            "Delta/g 1/nm^2",
+        ],
+        &rows,
+    );
+    s
+}

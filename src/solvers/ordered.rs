@@ -89,6 +89,20 @@ impl OrderedStates {
 }
 
 impl OrderedSolver {
+    /// The accuracy used at (q, T): at T = 0 and q != 0 the integrand has steps whose positions
+    /// move with angle, so the angular integral converges only algebraically; the target is
+    /// relaxed to 1e-6 there.
+    fn acc_at(&self, q: [f64; 2], t: f64) -> Accuracy {
+        if t <= 0.0 && q != [0.0, 0.0] {
+            Accuracy {
+                rtol: self.acc.rtol.max(1e-6),
+                ..self.acc
+            }
+        } else {
+            self.acc
+        }
+    }
+
     /// G(Delta) at wavevector q.
     pub fn gap_fn(
         &self,
@@ -99,22 +113,17 @@ impl OrderedSolver {
         t: f64,
     ) -> Result<f64, NumericalError> {
         let shell = Shell::for_channel(model, ch, q)?;
+        let acc = self.acc_at(q, t);
         if delta == 0.0 {
             if t <= 0.0 {
                 // chi diverges logarithmically at T = 0 for h = 0; use a tiny gap instead.
-                return Ok(gap_function(
-                    &shell,
-                    ch.g,
-                    ch.mismatch,
-                    1e-9 * ch.cutoff,
-                    t,
-                    &self.acc,
-                )?
-                .value);
+                return Ok(
+                    gap_function(&shell, ch.g, ch.mismatch, 1e-9 * ch.cutoff, t, &acc)?.value,
+                );
             }
-            return Ok(1.0 / ch.g - susceptibility(&shell, t, &self.acc)?.value);
+            return Ok(1.0 / ch.g - susceptibility(&shell, t, &acc)?.value);
         }
-        Ok(gap_function(&shell, ch.g, ch.mismatch, delta, t, &self.acc)?.value)
+        Ok(gap_function(&shell, ch.g, ch.mismatch, delta, t, &acc)?.value)
     }
 
     /// Omega(Delta) per spin channel at q.
@@ -127,7 +136,7 @@ impl OrderedSolver {
         t: f64,
     ) -> Result<(f64, f64), NumericalError> {
         let shell = Shell::for_channel(model, ch, q)?;
-        let e = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &self.acc)?;
+        let e = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &self.acc_at(q, t))?;
         Ok((e.value, e.error))
     }
 
@@ -338,4 +347,85 @@ impl OrderedSolver {
             chosen,
         })
     }
+}
+
+/// The search range of the plane-wave wavevector: 2 (|h| + 2 T) / v with v the smaller Fermi
+/// velocity and h the largest |h_k| on the nesting line; at least a tenth of the nested Tc in T.
+pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
+    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let mut v = f64::INFINITY;
+    for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
+        v = v
+            .min(a.fermi_velocity_along(d))
+            .min(b.fermi_velocity_along(d));
+    }
+    let h = ch
+        .mismatch
+        .abs()
+        .max(ch.mismatch_range[0].abs())
+        .max(ch.mismatch_range[1].abs());
+    let t_floor = crate::solvers::tc::nested_tc(ch).unwrap_or(0.0) * 0.1;
+    2.0 * (h + 2.0 * t.max(t_floor)) / v
+}
+
+/// The quasiparticle spectrum of a solution relative to the chemical potential.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct Spectrum {
+    /// The smallest excitation energy min_k (R - |h_k|) in meV when positive (a gapped state);
+    /// None when some Fermi-surface pieces stay ungapped.
+    pub gap: Option<f64>,
+    /// Angular ranges (degrees, polar angle about the shell centre, counter-clockwise from x)
+    /// where the spectrum is gapless.
+    pub gapless_arcs_deg: Vec<[f64; 2]>,
+}
+
+/// Samples the shell on 360 rays (64 values of xi on each) to find the excitation gap of a
+/// solution, or the arcs where it vanishes.
+pub fn spectrum(model: &Model, ch: &Channel, sol: &Solution) -> Result<Spectrum, NumericalError> {
+    let shell = Shell::for_channel(model, ch, sol.q)?;
+    let d2 = sol.delta * sol.delta;
+    let n_rays = 360;
+    let mut min_gap = f64::INFINITY;
+    let mut gapless = vec![false; n_rays];
+    for (j, flag) in gapless.iter_mut().enumerate() {
+        let th = 2.0 * std::f64::consts::PI * j as f64 / n_rays as f64;
+        let u = [th.cos(), th.sin()];
+        let mut ray_min = f64::INFINITY;
+        let span = (sol.delta + ch.mismatch.abs()).min(shell.cutoff);
+        let samples = (0..=64)
+            .map(|i| shell.xi_lo + (shell.cutoff - shell.xi_lo) * i as f64 / 64.0)
+            .chain((-32..=32).map(|i| span * i as f64 / 32.0))
+            .filter(|&x| x >= shell.xi_lo && x <= shell.cutoff);
+        for xi in samples {
+            let r = shell.xi_radius(u, xi)?;
+            let p = shell.at(shell.point_on_ray(u, r));
+            let e = (p.xi() * p.xi() + d2 * p.w).sqrt() - p.h().abs();
+            ray_min = ray_min.min(e);
+        }
+        if ray_min <= 0.0 {
+            *flag = true;
+        }
+        min_gap = min_gap.min(ray_min);
+    }
+    let mut arcs = Vec::new();
+    let mut j = 0;
+    while j < n_rays {
+        if gapless[j] {
+            let start = j;
+            while j < n_rays && gapless[j] {
+                j += 1;
+            }
+            arcs.push([start as f64, j as f64 - 1.0]);
+        } else {
+            j += 1;
+        }
+    }
+    Ok(Spectrum {
+        gap: if min_gap > 0.0 && sol.delta > 0.0 {
+            Some(min_gap)
+        } else {
+            None
+        },
+        gapless_arcs_deg: arcs,
+    })
 }

@@ -497,6 +497,16 @@ impl TcSolver {
             ));
         };
         let coarse = self.acc.coarse();
+        let prof_t = std::time::Instant::now();
+        let prof = |what: &str| {
+            if std::env::var_os("NESTOR_PROF").is_some() {
+                eprintln!(
+                    "PROF {what}: evals {} at {:.2} ms",
+                    count.get(),
+                    prof_t.elapsed().as_secs_f64() * 1e3
+                );
+            }
+        };
         let (mut lo, mut hi, mut hint);
         if uniform.status == TcStatus::Unstable {
             let tu = uniform.tc;
@@ -554,6 +564,7 @@ impl TcSolver {
             };
             lo = l;
             hi = h;
+            prof("coarse scan");
             hint = best.get().0;
             if hint == [0.0, 0.0] {
                 hint = self.best_q(model, ch, lo, &coarse, &count)?.0;
@@ -577,6 +588,7 @@ impl TcSolver {
                 hi *= 1.03;
             }
         }
+        prof("bracket");
         // Fine stage: Brent on the local maximum over q.
         let last = Cell::new(hint);
         let root = brent_root("modulated Tc", lo, hi, self.t_rel, |t| {
@@ -585,6 +597,7 @@ impl TcSolver {
             Ok(v - 1.0)
         })?;
         let root_t = root.x;
+        prof("brent");
         let (q, _) = self.local_q(model, ch, root_t, last.get(), iso, &count)?;
         // Global check at the root: no other wavevector may be more unstable.
         let (qg, vg) = self.best_q(model, ch, root_t, &coarse, &count)?;
@@ -599,6 +612,7 @@ impl TcSolver {
             )));
         }
         let qn = q[0].hypot(q[1]);
+        prof("global check");
         if uniform.status == TcStatus::Unstable && root_t <= uniform.tc + uniform.error {
             return Ok(ModulatedTc {
                 tc: uniform.clone(),

@@ -1,0 +1,323 @@
+//! The phase diagram of one channel in the (parameter, temperature) plane: per parameter value
+//! (in parallel) the instability lines and the chosen state on a temperature grid; then the
+//! first-order line (equal Omega of the uniform and normal minima), the spinodal where the uniform
+//! minimum disappears, and the tricritical (beta = 0) and Lifshitz (q-curvature = 0) points on
+//! the uniform instability line, each refined in the parameter by Brent's method.
+
+use super::{model_at, par_map, Grid};
+use crate::config::ConfigSource;
+use crate::error::{InputError, NestorError, NumericalError};
+use crate::kernels::grand_potential::quartic_loop;
+use crate::kernels::Shell;
+use crate::model::Model;
+use crate::solvers::ordered::{plane_wave_q_scale, OrderedSolver, StateKind};
+use crate::solvers::roots::brent_root;
+use crate::solvers::{TcSolver, TcStatus};
+
+/// One grid cell.
+#[derive(Debug, Clone)]
+pub struct Cell {
+    pub state: StateKind,
+    pub delta: f64,
+    pub q: [f64; 2],
+    /// Omega of the chosen state per spin channel, meV/nm^2.
+    pub omega: f64,
+    /// Lowest Omega among uniform minima (None when there is none).
+    pub uniform_omega: Option<f64>,
+    /// Whether the normal state is a local minimum (alpha > 0).
+    pub normal_minimum: bool,
+}
+
+/// One column (parameter value) of the diagram.
+#[derive(Debug, Clone)]
+pub struct Column {
+    pub value: f64,
+    /// Uniform instability temperature (meV; 0 when none) and the quartic coefficient there.
+    pub t_uniform: f64,
+    pub beta_uniform: Option<f64>,
+    /// q-curvature of chi at q = 0 on the uniform line (lowest eigenvalue for anisotropic
+    /// channels), 1/(meV nm^2) nm^2.
+    pub curvature_uniform: Option<f64>,
+    pub t_modulated: f64,
+    pub q_star: [f64; 2],
+    pub cells: Vec<Result<Cell, String>>,
+}
+
+/// A special point on the uniform instability line.
+#[derive(Debug, Clone, Copy)]
+pub struct SpecialPoint {
+    pub value: f64,
+    /// meV
+    pub t: f64,
+    /// Whether it lies on the actual phase boundary (not preempted by another state).
+    pub on_boundary: bool,
+}
+
+#[derive(Debug, Clone)]
+pub struct PhaseDiagram {
+    pub channel: usize,
+    pub temperatures: Vec<f64>,
+    pub columns: Vec<Result<Column, String>>,
+    /// First-order line (parameter, T meV).
+    pub first_order: Vec<(f64, f64)>,
+    /// Where the uniform minimum disappears (parameter, T meV).
+    pub spinodal: Vec<(f64, f64)>,
+    pub tricritical: Option<SpecialPoint>,
+    pub lifshitz: Option<SpecialPoint>,
+}
+
+/// Options of the phase-diagram computation.
+#[derive(Debug, Clone, Copy)]
+pub struct PhaseOptions {
+    pub channel: usize,
+    /// Highest temperature, meV.
+    pub t_max: f64,
+    pub temperatures: usize,
+    /// Compute plane-wave states where the modulated instability lies above the uniform one.
+    pub modulated: bool,
+    pub threads: Option<usize>,
+    pub progress: bool,
+}
+
+fn lowest_curvature(
+    tc: &TcSolver,
+    m: &Model,
+    ch: &crate::model::Channel,
+    t: f64,
+) -> Result<f64, NumericalError> {
+    let iso = Shell::for_channel(m, ch, [0.0, 0.0])?.isotropic;
+    let (cx, _) = tc.chi_q_curvature(m, ch, t, [1.0, 0.0])?;
+    if iso {
+        return Ok(-cx);
+    }
+    let (cy, _) = tc.chi_q_curvature(m, ch, t, [0.0, 1.0])?;
+    let r = std::f64::consts::FRAC_1_SQRT_2;
+    let (cd, _) = tc.chi_q_curvature(m, ch, t, [r, r])?;
+    // Hessian of alpha = 1/g - chi: -[[cx, cxy], [cxy, cy]] with cd = (cx + cy)/2 + cxy.
+    let cxy = cd - 0.5 * (cx + cy);
+    let (a, b, c) = (-cx, -cxy, -cy);
+    let mean = 0.5 * (a + c);
+    let disc = (0.25 * (a - c) * (a - c) + b * b).sqrt();
+    Ok(mean - disc)
+}
+
+fn column(
+    m: &Model,
+    opts: &PhaseOptions,
+    temps: &[f64],
+    tc: &TcSolver,
+    os: &OrderedSolver,
+    value: f64,
+) -> Result<Column, NestorError> {
+    let ch = &m.channels[opts.channel];
+    let u = tc.uniform(m, ch)?;
+    let md = tc.modulated(m, ch, &u)?;
+    let (t_u, beta, curv) = if u.status == TcStatus::Unstable {
+        let shell = Shell::for_channel(m, ch, [0.0, 0.0])?;
+        let b = quartic_loop(&shell, u.tc, &tc.acc)?.value;
+        (u.tc, Some(b), Some(lowest_curvature(tc, m, ch, u.tc)?))
+    } else {
+        (0.0, None, None)
+    };
+    let modulated_above = md.tc.status == TcStatus::Unstable && md.q != [0.0, 0.0];
+    let mut cells = Vec::with_capacity(temps.len());
+    for &t in temps {
+        let want_pw = opts.modulated && modulated_above && t < md.tc.tc;
+        let qs = want_pw.then(|| plane_wave_q_scale(m, ch, t).max(2.0 * md.q[0].hypot(md.q[1])));
+        let cell = os.solve(m, ch, t, qs).map(|st| {
+            let c = st.chosen();
+            Cell {
+                state: c.state,
+                delta: c.delta,
+                q: c.q,
+                omega: c.omega,
+                uniform_omega: st
+                    .solutions
+                    .iter()
+                    .filter(|s| s.state == StateKind::Uniform && s.minimum)
+                    .map(|s| s.omega)
+                    .reduce(f64::min),
+                normal_minimum: st.solutions[0].minimum,
+            }
+        });
+        cells.push(cell.map_err(|e| e.to_string()));
+    }
+    Ok(Column {
+        value,
+        t_uniform: t_u,
+        beta_uniform: beta,
+        curvature_uniform: curv,
+        t_modulated: if md.tc.status == TcStatus::Unstable {
+            md.tc.tc
+        } else {
+            0.0
+        },
+        q_star: md.q,
+        cells,
+    })
+}
+
+/// Computes the phase diagram over a 1D grid of the parameter.
+pub fn phase_diagram(
+    base: &ConfigSource,
+    base_model: &Model,
+    grid: &Grid,
+    opts: &PhaseOptions,
+    tc: &TcSolver,
+    os: &OrderedSolver,
+) -> Result<PhaseDiagram, InputError> {
+    if grid.axes.len() != 1 {
+        return Err(InputError::new(
+            "phases: give exactly one --vary range (the temperature is the other axis)",
+        ));
+    }
+    if opts.channel >= base_model.channels.len() {
+        return Err(InputError::new(
+            "phases: the configuration has no such channel",
+        ));
+    }
+    let pinned = base_model.pinned_couplings();
+    base.with_overrides(&grid.overrides(0))?;
+    let n_t = opts.temperatures.max(2);
+    // The lowest row sits at a quarter step above T = 0, where Omega at q != 0 has kinks in angle.
+    let temps: Vec<f64> = (0..n_t)
+        .map(|j| opts.t_max * (j as f64).max(0.25) / (n_t - 1) as f64)
+        .collect();
+    let columns: Vec<Result<Column, String>> =
+        par_map(grid.len(), opts.threads, opts.progress, |i| {
+            let value = grid.values(i)[0];
+            model_at(base, &pinned, grid, i)
+                .map_err(NestorError::from)
+                .and_then(|m| column(&m, opts, &temps, tc, os, value))
+                .map_err(|e| e.to_string())
+        });
+    // First-order line and spinodal, by interpolation along the parameter at each temperature.
+    let mut first_order = Vec::new();
+    let mut spinodal = Vec::new();
+    for (j, &t) in temps.iter().enumerate() {
+        for w in columns.windows(2) {
+            let (Ok(a), Ok(b)) = (&w[0], &w[1]) else {
+                continue;
+            };
+            let (Ok(ca), Ok(cb)) = (&a.cells[j], &b.cells[j]) else {
+                continue;
+            };
+            // Equal Omega of the uniform minimum and the normal state, both minima.
+            if let (Some(oa), Some(ob)) = (ca.uniform_omega, cb.uniform_omega) {
+                if oa.signum() != ob.signum() && ca.normal_minimum && cb.normal_minimum {
+                    let x = a.value + (b.value - a.value) * oa / (oa - ob);
+                    first_order.push((x, t));
+                }
+            }
+            if ca.uniform_omega.is_some() != cb.uniform_omega.is_some()
+                && ca.normal_minimum
+                && cb.normal_minimum
+            {
+                spinodal.push((0.5 * (a.value + b.value), t));
+            }
+        }
+    }
+    // Special points along the uniform line, refined in the parameter.
+    let range = &grid.axes[0];
+    let has_uniform = |x: f64| -> bool {
+        base.with_overrides(&[range.at(x)])
+            .and_then(|s| s.build(Some(&pinned)))
+            .ok()
+            .and_then(|m| tc.uniform(&m, &m.channels[opts.channel]).ok())
+            .is_some_and(|u| u.status == TcStatus::Unstable)
+    };
+    let refine =
+        |pick: fn(&Column) -> Option<f64>, what: &str, which: u8| -> Option<SpecialPoint> {
+            for w in columns.windows(2) {
+                let (Ok(a), Ok(b)) = (&w[0], &w[1]) else {
+                    continue;
+                };
+                let (lo, hi, fa) = match (pick(a), pick(b)) {
+                    (Some(fa), Some(fb)) if fa.signum() != fb.signum() => (a.value, b.value, fa),
+                    // The uniform line ends (its nose) between the two columns: the point may lie
+                    // between the last column and the nose.
+                    (Some(fa), None) | (None, Some(fa)) => {
+                        let (mut inside, mut outside) = if pick(a).is_some() {
+                            (a.value, b.value)
+                        } else {
+                            (b.value, a.value)
+                        };
+                        for _ in 0..30 {
+                            let mid = 0.5 * (inside + outside);
+                            if has_uniform(mid) {
+                                inside = mid;
+                            } else {
+                                outside = mid;
+                            }
+                        }
+                        let start = if pick(a).is_some() { a.value } else { b.value };
+                        (start.min(inside), start.max(inside), fa)
+                    }
+                    _ => continue,
+                };
+                let _ = fa;
+                let eval = |x: f64| -> Result<f64, NumericalError> {
+                    let o = range.at(x);
+                    let m = base
+                        .with_overrides(&[o])
+                        .and_then(|s| s.build(Some(&pinned)))
+                        .map_err(|e| NumericalError::Invalid(e.to_string()))?;
+                    let ch = &m.channels[opts.channel];
+                    let u = tc.uniform(&m, ch)?;
+                    if u.status != TcStatus::Unstable {
+                        return Err(NumericalError::Invalid(format!(
+                            "{what}: no uniform instability at {x}"
+                        )));
+                    }
+                    if which == 0 {
+                        Ok(
+                            quartic_loop(&Shell::for_channel(&m, ch, [0.0, 0.0])?, u.tc, &tc.acc)?
+                                .value,
+                        )
+                    } else {
+                        lowest_curvature(tc, &m, ch, u.tc)
+                    }
+                };
+                let x = match brent_root(what, lo, hi, 1e-8, eval) {
+                    Ok(r) => r.x,
+                    Err(_) => continue,
+                };
+                let m = base
+                    .with_overrides(&[range.at(x)])
+                    .ok()?
+                    .build(Some(&pinned))
+                    .ok()?;
+                let ch = &m.channels[opts.channel];
+                let u = tc.uniform(&m, ch).ok()?;
+                let md = tc.modulated(&m, ch, &u).ok()?;
+                let preempted_by_modulated = md.q != [0.0, 0.0] && md.tc.tc > u.tc * (1.0 + 1e-6);
+                let on_boundary = if which == 0 {
+                    !preempted_by_modulated
+                } else {
+                    // The Lifshitz point is on the boundary when the uniform line there is second order.
+                    let b =
+                        quartic_loop(&Shell::for_channel(&m, ch, [0.0, 0.0]).ok()?, u.tc, &tc.acc)
+                            .ok()?
+                            .value;
+                    b > 0.0
+                };
+                return Some(SpecialPoint {
+                    value: x,
+                    t: u.tc,
+                    on_boundary,
+                });
+            }
+            None
+        };
+    let tricritical = refine(|c| c.beta_uniform, "tricritical point", 0);
+    let lifshitz = refine(|c| c.curvature_uniform, "Lifshitz point", 1);
+    Ok(PhaseDiagram {
+        channel: opts.channel,
+        temperatures: temps,
+        columns,
+        first_order,
+        spinodal,
+        tricritical,
+        lifshitz,
+    })
+}
