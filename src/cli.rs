@@ -398,8 +398,35 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 &a.out,
                 "demo",
             )?;
+            println!("\n== phases: phase diagram of channel XG against G.offset ==");
+            let pa = PhasesArgs {
+                cfg: ConfigArgs {
+                    config: PathBuf::from("(embedded)"),
+                    set: vec![],
+                },
+                vary: format!(
+                    "G.offset={}:{}:{}",
+                    DEMO_SCAN.0,
+                    DEMO_SCAN.1,
+                    a.points.min(25)
+                ),
+                tmax: None,
+                temperatures: 21,
+                channel: Some("XG".into()),
+                uniform_only: true,
+                out: a.out.clone(),
+                threads: a.threads,
+            };
+            let pgrid = Grid::new(vec![parse_range(&pa.vary)?])?;
+            let phases = run_phases(&src, &model, &pgrid, &pa)?;
+            println!("(the demo's phase diagram shows uniform states and the modulated instability line; plane-wave states of these anisotropic channels take seconds each: run `nestor phases` without --uniform-only for them)");
             println!("\nWrote tables and figures to {}/", a.out.display());
-            Ok(outcome)
+            Ok(match (outcome, phases) {
+                (Outcome::Done, Outcome::Done) => Outcome::Done,
+                (Outcome::PartlyFailed(m), _) | (_, Outcome::PartlyFailed(m)) => {
+                    Outcome::PartlyFailed(m)
+                }
+            })
         }
     }
 }

@@ -158,7 +158,7 @@ mod tests {
     /// limits (common practice). Relative 1e-13.
     #[test]
     fn phi_and_fermi_match_definitions() {
-        for &(e, t) in &[(0.3, 0.2), (-0.7, 0.5), (2.0, 0.1), (-0.05, 1.0)] {
+        for &(e, t) in &[(0.3f64, 0.2f64), (-0.7, 0.5), (2.0, 0.1), (-0.05, 1.0)] {
             let direct = -t * (1.0 + (-e / t).exp()).ln();
             assert!((phi(e, t) - direct).abs() < 1e-13 * direct.abs().max(1e-3));
             let fd = 1.0 / ((e / t).exp() + 1.0);

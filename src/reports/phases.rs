@@ -198,14 +198,20 @@ pub fn write_phases(
             }
         }
     }
-    let second: Vec<(f64, f64)> = uniform_line
-        .iter()
-        .map(|&(x, t, so)| (x, if so { t } else { f64::NAN }))
-        .collect();
-    let continued: Vec<(f64, f64)> = uniform_line
-        .iter()
-        .map(|&(x, t, so)| (x, if so { f64::NAN } else { t }))
-        .collect();
+    // Per column, NaN where the line is absent, so separate stretches are not joined.
+    let line_point = |c: &&crate::sweeps::phase_map::Column, second_order: bool| {
+        let on = c.t_uniform > 0.0 && ((c.beta_uniform.unwrap_or(0.0) > 0.0) == second_order);
+        (
+            c.value,
+            if on {
+                mev_to_kelvin(c.t_uniform)
+            } else {
+                f64::NAN
+            },
+        )
+    };
+    let second: Vec<(f64, f64)> = ok.iter().map(|c| line_point(c, true)).collect();
+    let continued: Vec<(f64, f64)> = ok.iter().map(|c| line_point(c, false)).collect();
     let mut series = vec![
         Series {
             label: "second order (uniform)".into(),
@@ -221,26 +227,44 @@ pub fn write_phases(
         },
         Series {
             label: "modulated instability".into(),
-            points: modulated_line,
+            // One point per column, NaN where the modulated state does not win, so that separate
+            // stretches are not joined.
+            points: ok
+                .iter()
+                .map(|c| {
+                    let on = c.t_modulated > 0.0 && c.q_star != [0.0, 0.0];
+                    (
+                        c.value,
+                        if on {
+                            mev_to_kelvin(c.t_modulated)
+                        } else {
+                            f64::NAN
+                        },
+                    )
+                })
+                .collect(),
             dash: Dash::Solid,
             color: 1,
         },
         Series {
             label: "first order (equal Omega)".into(),
-            points: first,
+            points: first.clone(),
             dash: Dash::Dashed,
             color: 2,
         },
     ];
     series.retain(|s| s.points.iter().any(|p| p.1.is_finite()));
     let mut bands = Vec::new();
-    if !spin.is_empty() {
-        let mut poly: Vec<(f64, f64)> = spin.clone();
-        poly.sort_by(|a, b| a.1.total_cmp(&b.1));
+    if !spin.is_empty() && !first.is_empty() {
+        // Between the first-order line and the uniform state's spinodal.
+        let mut lower: Vec<(f64, f64)> = first.clone();
+        lower.sort_by(|a, b| a.1.total_cmp(&b.1));
+        let mut upper: Vec<(f64, f64)> = spin.clone();
+        upper.sort_by(|a, b| a.1.total_cmp(&b.1));
         bands.push(Band {
-            label: "uniform state metastable (to its spinodal)".into(),
-            lower: poly,
-            upper: vec![],
+            label: "uniform metastable (first-order line to spinodal)".into(),
+            lower,
+            upper,
             color: 4,
         });
     }

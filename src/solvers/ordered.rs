@@ -86,6 +86,29 @@ impl OrderedStates {
     pub fn chosen(&self) -> &Solution {
         &self.solutions[self.chosen]
     }
+
+    /// Marks the lowest minimum stable, other minima metastable, maxima unstable.
+    pub fn reclassify(&mut self) {
+        if let Some(c) = self
+            .solutions
+            .iter()
+            .enumerate()
+            .filter(|(_, s)| s.minimum)
+            .min_by(|a, b| a.1.omega.total_cmp(&b.1.omega))
+            .map(|(i, _)| i)
+        {
+            self.chosen = c;
+        }
+        for (i, s) in self.solutions.iter_mut().enumerate() {
+            s.stability = if i == self.chosen {
+                Stability::Stable
+            } else if s.minimum {
+                Stability::Metastable
+            } else {
+                Stability::Unstable
+            };
+        }
+    }
 }
 
 impl OrderedSolver {
@@ -238,6 +261,19 @@ impl OrderedSolver {
         t: f64,
         q_scale: f64,
     ) -> Result<Option<Solution>, NumericalError> {
+        self.plane_wave_near(model, ch, t, q_scale, None)
+    }
+
+    /// As [`plane_wave`](Self::plane_wave), also trying the wavevectors around `hint` (e.g. the
+    /// q* of the modulated instability), where the ordered window in q is narrow.
+    pub fn plane_wave_near(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        q_scale: f64,
+        hint: Option<[f64; 2]>,
+    ) -> Result<Option<Solution>, NumericalError> {
         let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
         let dirs: Vec<f64> = if iso {
             vec![0.0]
@@ -256,6 +292,24 @@ impl OrderedSolver {
         let n = self.q_points.max(4);
         let dq = 2.0 * q_scale / n as f64;
         let (mut best, mut best_q, mut best_phi) = (0.0, 0.0, 0.0);
+        let mut dq = dq;
+        if let Some(hq) = hint {
+            let (hm, hp) = (
+                hq[0].hypot(hq[1]),
+                if iso { 0.0 } else { hq[1].atan2(hq[0]) },
+            );
+            if hm > 0.0 {
+                for f in [0.9, 1.0, 1.1, 1.25] {
+                    let v = omega_at(at(f * hm, hp))?;
+                    if v < best {
+                        best = v;
+                        best_q = f * hm;
+                        best_phi = hp;
+                        dq = dq.min(0.15 * hm);
+                    }
+                }
+            }
+        }
         for &phi in &dirs {
             for i in 1..=n {
                 let v = omega_at(at(dq * i as f64, phi))?;

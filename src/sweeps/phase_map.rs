@@ -24,6 +24,8 @@ pub struct Cell {
     pub omega: f64,
     /// Lowest Omega among uniform minima (None when there is none).
     pub uniform_omega: Option<f64>,
+    /// Lowest Omega among the other minima (normal, plane wave); None when there is none.
+    pub other_omega: Option<f64>,
     /// Whether the normal state is a local minimum (alpha > 0).
     pub normal_minimum: bool,
 }
@@ -101,6 +103,27 @@ fn lowest_curvature(
     Ok(mean - disc)
 }
 
+/// All states at one cell, the plane wave searched near the instability's q*.
+fn solve_cell(
+    os: &OrderedSolver,
+    m: &Model,
+    ch: &crate::model::Channel,
+    t: f64,
+    q_scale: Option<f64>,
+    hint: [f64; 2],
+) -> Result<crate::solvers::ordered::OrderedStates, NumericalError> {
+    let mut st = os.solve(m, ch, t, None)?;
+    if let Some(qs) = q_scale {
+        if let Some(pw) = os.plane_wave_near(m, ch, t, qs, Some(hint))? {
+            if pw.q[0].hypot(pw.q[1]) > 1e-3 * qs {
+                st.solutions.push(pw);
+                st.reclassify();
+            }
+        }
+    }
+    Ok(st)
+}
+
 fn column(
     m: &Model,
     opts: &PhaseOptions,
@@ -124,7 +147,7 @@ fn column(
     for &t in temps {
         let want_pw = opts.modulated && modulated_above && t < md.tc.tc;
         let qs = want_pw.then(|| plane_wave_q_scale(m, ch, t).max(2.0 * md.q[0].hypot(md.q[1])));
-        let cell = os.solve(m, ch, t, qs).map(|st| {
+        let cell = solve_cell(os, m, ch, t, qs, md.q).map(|st| {
             let c = st.chosen();
             Cell {
                 state: c.state,
@@ -138,6 +161,12 @@ fn column(
                     .map(|s| s.omega)
                     .reduce(f64::min),
                 normal_minimum: st.solutions[0].minimum,
+                other_omega: st
+                    .solutions
+                    .iter()
+                    .filter(|s| s.state != StateKind::Uniform && s.minimum)
+                    .map(|s| s.omega)
+                    .reduce(f64::min),
             }
         });
         cells.push(cell.map_err(|e| e.to_string()));
@@ -202,10 +231,16 @@ pub fn phase_diagram(
             let (Ok(ca), Ok(cb)) = (&a.cells[j], &b.cells[j]) else {
                 continue;
             };
-            // Equal Omega of the uniform minimum and the normal state, both minima.
-            if let (Some(oa), Some(ob)) = (ca.uniform_omega, cb.uniform_omega) {
-                if oa.signum() != ob.signum() && ca.normal_minimum && cb.normal_minimum {
-                    let x = a.value + (b.value - a.value) * oa / (oa - ob);
+            // Equal Omega of the uniform minimum and the best other minimum (normal or plane wave).
+            if let (Some(ua), Some(ub), Some(oa), Some(ob)) = (
+                ca.uniform_omega,
+                cb.uniform_omega,
+                ca.other_omega,
+                cb.other_omega,
+            ) {
+                let (da, db) = (ua - oa, ub - ob);
+                if da.signum() != db.signum() {
+                    let x = a.value + (b.value - a.value) * da / (da - db);
                     first_order.push((x, t));
                 }
             }

@@ -1,0 +1,169 @@
+//! The phase diagram: tricritical and Lifshitz points found separately on the uniform line, the
+//! first-order line at low temperature, and the `solve` / `phases` command-line outputs.
+
+mod common;
+
+use common::nested_pair;
+use nestor::config::parse_range;
+use nestor::solvers::ordered::OrderedSolver;
+use nestor::solvers::TcSolver;
+use nestor::sweeps::phase_map::{phase_diagram, PhaseOptions};
+use nestor::sweeps::Grid;
+use std::process::Command;
+
+const TC0: f64 = 1.133_865_9 * 5.0 * 0.018_315_638_888_734_18; // 1.1339 cutoff e^-4
+
+/// On the weak-coupling reference pair the tricritical point (beta = 0) lies at T = 0.5615 Tc0,
+/// h = 1.0728 Tc0 (Sarma 1963; Saint-James, Sarma, Thomas 1969) and the Lifshitz point (q-curvature
+/// = 0) coincides with it (Buzdin and Kachkachi 1997, from memory; physics.md: finite cutoff/E_F
+/// separates them by ~4e-4 in T). Both are found by separate root searches. Among uniform and
+/// normal states the first-order line at low T approaches h = Delta0/sqrt(2) (Clogston 1962,
+/// Chandrasekhar 1962). Tolerances: 2e-3 in T/Tc0 and h/Tc0; 5e-3 relative on the Clogston field
+/// (the lowest row is at T = 0.05 Tc0, and the line is interpolated between columns).
+#[test]
+fn tricritical_lifshitz_and_first_order_line() {
+    let (src, m) = nested_pair(0.25, 5.0, 100.0, 0.0);
+    // h = (offset - 100)/2 from 1.01 to 1.31 Tc0.
+    let (lo, hi) = (100.0 + 2.0 * 1.01 * TC0, 100.0 + 2.0 * 1.31 * TC0);
+    let grid = Grid::new(vec![parse_range(&format!("h.offset={lo}:{hi}:13")).unwrap()]).unwrap();
+    let opts = PhaseOptions {
+        channel: 0,
+        t_max: 0.8 * TC0,
+        temperatures: 5,
+        modulated: false,
+        threads: None,
+        progress: false,
+    };
+    let d = phase_diagram(
+        &src,
+        &m,
+        &grid,
+        &opts,
+        &TcSolver::default(),
+        &OrderedSolver::default(),
+    )
+    .unwrap();
+    let h_of = |x: f64| (x - 100.0) / 2.0 / TC0;
+    let tcp = d.tricritical.expect("a tricritical point");
+    assert!(
+        (tcp.t / TC0 - 0.5615).abs() < 2e-3,
+        "T_tcp = {}",
+        tcp.t / TC0
+    );
+    assert!(
+        (h_of(tcp.value) - 1.0728).abs() < 2e-3,
+        "h_tcp = {}",
+        h_of(tcp.value)
+    );
+    let lp = d.lifshitz.expect("a Lifshitz point");
+    assert!((lp.t / TC0 - 0.5615).abs() < 2e-3);
+    assert!((h_of(lp.value) - h_of(tcp.value)).abs() < 1e-3);
+    // The lowest row of the first-order line.
+    let t_low = d.temperatures[0];
+    let (x, _) = d
+        .first_order
+        .iter()
+        .copied()
+        .find(|&(_, t)| t == t_low)
+        .expect("a first-order point at the lowest temperature");
+    let delta0 = 5.0 / 4f64.sinh();
+    assert!(
+        (h_of(x) * TC0 / (delta0 / 2f64.sqrt()) - 1.0).abs() < 5e-3,
+        "h1 = {} Tc0",
+        h_of(x)
+    );
+}
+
+fn run(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_nestor"))
+        .args(args)
+        .output()
+        .unwrap();
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// `solve --json` lists every solution with the keys of the interface and marks the chosen one;
+/// bad temperatures are rejected with exit code 2.
+#[test]
+fn solve_command_outputs() {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    let (code, out, err) = run(&[
+        "solve",
+        cfg,
+        "--temperature",
+        "0.3",
+        "--set",
+        "h.offset=100.26",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    let ch = &v["channels"][0];
+    let sols = ch["solutions"].as_array().unwrap();
+    assert!(sols.len() >= 3);
+    for s in sols {
+        for k in [
+            "state",
+            "delta_meV",
+            "q_per_nm",
+            "omega_meV_per_nm2",
+            "stability",
+        ] {
+            assert!(!s[k].is_null(), "missing {k}");
+        }
+    }
+    let chosen = ch["chosen"].as_u64().unwrap() as usize;
+    assert_eq!(sols[chosen]["stability"], "stable");
+    // Beyond the Clogston field at low T, the plane wave is chosen (physics.md section 8).
+    assert_eq!(sols[chosen]["state"], "modulated");
+    let (code, _, err) = run(&["solve", cfg, "--temperature", "-1"]);
+    assert_eq!(code, 2);
+    assert!(err.contains("--temperature"));
+}
+
+/// `phases` writes the tables and the figure, and its JSON holds the lines as point lists and
+/// the tricritical and Lifshitz objects.
+#[test]
+fn phases_command_outputs() {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    let dir = std::env::temp_dir().join(format!("nestor-phases-{}", std::process::id()));
+    let (code, _, err) = run(&[
+        "phases",
+        cfg,
+        "--vary",
+        "h.offset=100.18:100.30:7",
+        "--temperatures",
+        "4",
+        "--uniform-only",
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap())
+            .unwrap();
+    for k in [
+        "uniform_instability",
+        "modulated_instability",
+        "first_order",
+        "spinodal_uniform",
+    ] {
+        assert!(v["lines"][k].is_array(), "{k}");
+    }
+    for k in ["tricritical", "lifshitz"] {
+        assert!(v[k].get("temperature_K").is_some() && v[k].get("value").is_some());
+    }
+    assert!(v["tricritical"]["temperature_K"].is_number());
+    assert!(dir.join("phases_eh.png").exists() && dir.join("phases_eh.svg").exists());
+    let _ = std::fs::remove_dir_all(&dir);
+}
