@@ -9,3 +9,7 @@ cargo build --release
   --vary h.offset=100.0:100.3:31 --vary eh.cutoff=4.5:5.5:11 --out figures/map
 cp figures/map/scan_tc_eh.png figures/map_tc_eh.png
 cp figures/map/scan_tc_eh.svg figures/map_tc_eh.svg
+./target/release/nestor phases configs/reference/nested_parabolic.toml \
+  --vary h.offset=100.0:100.4:41 --temperatures 31 --out figures/map
+cp figures/map/phases_eh.png figures/phases_eh.png
+cp figures/map/phases_eh.svg figures/phases_eh.svg
