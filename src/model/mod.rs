@@ -332,3 +332,73 @@ mod tests {
         }
     }
 }
+
+impl Lattice {
+    /// Primitive reciprocal vectors (1/nm).
+    pub fn reciprocal(&self) -> [[f64; 2]; 2] {
+        let tau = 2.0 * std::f64::consts::PI;
+        match *self {
+            Lattice::Square { a } => [[tau / a, 0.0], [0.0, tau / a]],
+            Lattice::Rectangular { a, b } => [[tau / a, 0.0], [0.0, tau / b]],
+            // Real-space a1 = a (1, 0), a2 = a (1/2, sqrt(3)/2).
+            Lattice::Hexagonal { a } => {
+                let s3 = 3f64.sqrt();
+                [[tau / a, -tau / (a * s3)], [0.0, 2.0 * tau / (a * s3)]]
+            }
+        }
+    }
+
+    /// The wavevector p folded into the first Brillouin zone (the shortest p - G over
+    /// reciprocal vectors G).
+    pub fn fold(&self, p: [f64; 2]) -> [f64; 2] {
+        let [b1, b2] = self.reciprocal();
+        let mut best = p;
+        let mut best_n = p[0].hypot(p[1]);
+        // Reduce coarsely first so that the small search below suffices for any p.
+        let det = b1[0] * b2[1] - b1[1] * b2[0];
+        let c1 = ((p[0] * b2[1] - p[1] * b2[0]) / det).round();
+        let c2 = ((b1[0] * p[1] - b1[1] * p[0]) / det).round();
+        for n1 in -2..=2 {
+            for n2 in -2..=2 {
+                let (m1, m2) = (c1 + n1 as f64, c2 + n2 as f64);
+                let q = [
+                    p[0] - m1 * b1[0] - m2 * b2[0],
+                    p[1] - m1 * b1[1] - m2 * b2[1],
+                ];
+                let n = q[0].hypot(q[1]);
+                if n < best_n - 1e-12 {
+                    best = q;
+                    best_n = n;
+                }
+            }
+        }
+        best
+    }
+}
+
+#[cfg(test)]
+mod lattice_tests {
+    use super::*;
+
+    /// Folding: the zone-edge midpoint of a square lattice stays at |p| = pi/a (its two images
+    /// are equally short), a full reciprocal vector folds to zero, and a hexagonal K point
+    /// (4 pi/(3a) along x) stays at that length (common practice).
+    #[test]
+    fn folds_into_the_first_zone() {
+        let sq = Lattice::Square { a: 0.4 };
+        let x = std::f64::consts::PI / 0.4;
+        let f = sq.fold([x, 0.0]);
+        assert!((f[0].hypot(f[1]) - x).abs() < 1e-12);
+        let f = sq.fold([2.0 * x, 0.0]);
+        assert!(f[0].hypot(f[1]) < 1e-12);
+        let f = sq.fold([2.0 * x + 0.1, 3.0 * 2.0 * x - 0.2]);
+        assert!((f[0] - 0.1).abs() < 1e-12 && (f[1] + 0.2).abs() < 1e-12);
+        let hx = Lattice::Hexagonal { a: 0.5 };
+        let k = 4.0 * std::f64::consts::PI / (3.0 * 0.5);
+        let f = hx.fold([k, 0.0]);
+        assert!((f[0].hypot(f[1]) - k).abs() < 1e-9);
+        let b = hx.reciprocal();
+        let f = hx.fold([b[0][0] + b[1][0], b[0][1] + b[1][1]]);
+        assert!(f[0].hypot(f[1]) < 1e-12);
+    }
+}

@@ -468,6 +468,7 @@ pub fn ordered_json(
                 "gapless": s.delta > 0.0 && sp.gap.is_none(),
                 "gapless_arcs_deg": sp.gapless_arcs_deg,
                 "coherence_per_nm2": s.delta / c.g,
+                "density_modulation": density_modulation(m, c, s),
             })
         })
         .collect();
@@ -538,4 +539,28 @@ pub fn ordered_text(
         &rows,
     );
     s
+}
+
+/// First-order density modulation of a single-wavevector state (physics.md section 6): at
+/// P = K_a - K_b + q (folded into the first zone when a [surface] lattice is given), amplitude
+/// 2 n_s |m_ab Delta| / g per nm^2 (charge for M = 1, spin density along i for M = sigma_i).
+pub fn density_modulation(m: &Model, c: &Channel, s: &crate::solvers::ordered::Solution) -> Value {
+    if s.delta <= 0.0 {
+        return json!([]);
+    }
+    let k = c.nesting_vector(m);
+    let p = [k[0] + s.q[0], k[1] + s.q[1]];
+    let (folded, is_folded) = match &m.surface {
+        Some(l) => (l.fold(p), true),
+        None => (p, false),
+    };
+    let n = folded[0].hypot(folded[1]);
+    json!([{
+        "kind": match c.spin_matrix { crate::model::SpinMatrix::Identity => "charge", crate::model::SpinMatrix::X => "spin x", crate::model::SpinMatrix::Y => "spin y", crate::model::SpinMatrix::Z => "spin z" },
+        "order": 1,
+        "wavevector_per_nm": folded,
+        "folded_into_first_zone": is_folded,
+        "period_nm": if n > 0.0 { json!(2.0 * std::f64::consts::PI / n) } else { Value::Null },
+        "amplitude_per_nm2": 2.0 * c.spin_channels * (c.overlap * s.delta).abs() / c.g,
+    }])
 }
