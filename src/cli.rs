@@ -116,6 +116,10 @@ pub struct SolveStateArgs {
     /// Skip the plane-wave (single-wavevector) search; uniform and normal states only.
     #[arg(long)]
     pub uniform_only: bool,
+    /// Also solve at fixed net carrier density (that of the configuration's normal state at
+    /// T = 0): the normal or uniform phase at its own chemical potential, or their coexistence.
+    #[arg(long)]
+    pub fixed_density: bool,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
@@ -141,6 +145,10 @@ pub struct PhasesArgs {
     /// Skip the plane-wave states (faster; the modulated instability line is still drawn).
     #[arg(long)]
     pub uniform_only: bool,
+    /// Hold the net carrier density fixed (that of the configuration's normal state at T = 0)
+    /// instead of the chemical potential: uniform and normal states, with coexistence regions.
+    #[arg(long)]
+    pub fixed_density: bool,
     /// Output directory.
     #[arg(long, default_value = "nestor-out")]
     pub out: PathBuf,
@@ -299,8 +307,36 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                     .map(|sol| spectrum(&model, ch, sol))
                     .collect::<Result<Vec<_>, _>>()
                     .map_err(NestorError::from)?;
-                json_channels.push(tables::ordered_json(&model, ch, &st, &spectra));
+                let mut cj = tables::ordered_json(&model, ch, &st, &spectra);
                 text += &tables::ordered_text(ch, &st, &spectra);
+                if a.fixed_density {
+                    let idx = model
+                        .channels
+                        .iter()
+                        .position(|c| c.label == ch.label)
+                        .unwrap_or(0);
+                    let lambda = ch.lambda().max(1e-3);
+                    let d0 = ch.cutoff / (1.0 / lambda).sinh();
+                    let min_offset = model
+                        .pockets
+                        .iter()
+                        .map(|p| p.offset().abs())
+                        .fold(f64::INFINITY, f64::min);
+                    let window = (2.0 * (ch.mismatch.abs() + d0) + 4.0 * t).min(0.5 * min_offset);
+                    let cs =
+                        nestor::solvers::canonical::canonical_state(&s, &model, idx, t, window)
+                            .map_err(NestorError::from)?;
+                    text += &format!(
+                        "fixed density {:.6e}/nm^2: {}{} (chemical potential shifted by {:.5} meV, Delta = {:.5} meV)\n",
+                        cs.density,
+                        cs.state,
+                        cs.ordered_fraction.map(|f| format!(", ordered fraction {f:.4}")).unwrap_or_default(),
+                        cs.mu_shift,
+                        cs.delta
+                    );
+                    cj["fixed_density"] = serde_json::to_value(&cs).unwrap_or_default();
+                }
+                json_channels.push(cj);
                 text.push('\n');
             }
             if a.json {
@@ -414,6 +450,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 temperatures: 21,
                 channel: Some("XG".into()),
                 uniform_only: true,
+                fixed_density: false,
                 out: a.out.clone(),
                 threads: a.threads,
             };
@@ -506,7 +543,8 @@ fn run_phases(
         channel,
         t_max,
         temperatures: a.temperatures,
-        modulated: !a.uniform_only,
+        modulated: !a.uniform_only && !a.fixed_density,
+        fixed_density: a.fixed_density,
         threads: a.threads,
         progress: std::io::stderr().is_terminal(),
     };

@@ -31,6 +31,7 @@ fn tricritical_lifshitz_and_first_order_line() {
         t_max: 0.8 * TC0,
         temperatures: 5,
         modulated: false,
+        fixed_density: false,
         threads: None,
         progress: false,
     };

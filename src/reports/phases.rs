@@ -69,7 +69,13 @@ pub fn write_phases(
                         Ok(x) => vec![
                             format!("{}", c.value),
                             format!("{}", mev_to_kelvin(t)),
-                            format!("{:?}", x.state).to_lowercase(),
+                            if x.undetermined {
+                                "undetermined".into()
+                            } else if let Some(f) = x.coexistence {
+                                format!("coexistence (ordered fraction {f:.4})")
+                            } else {
+                                format!("{:?}", x.state).to_lowercase()
+                            },
                             format!("{}", x.delta),
                             format!("{}", x.q[0]),
                             format!("{}", x.q[1]),
@@ -193,7 +199,13 @@ pub fn write_phases(
         if let Ok(c) = c {
             for (iy, cell) in c.cells.iter().enumerate() {
                 if let Ok(cell) = cell {
-                    regions[iy * xs.len() + ix] = Some(region(cell.state));
+                    regions[iy * xs.len() + ix] = Some(if cell.undetermined {
+                        4
+                    } else if cell.coexistence.is_some() {
+                        3
+                    } else {
+                        region(cell.state)
+                    });
                 }
             }
         }
@@ -311,6 +323,8 @@ pub fn write_phases(
             "normal".into(),
             "uniform order".into(),
             "modulated (plane wave)".into(),
+            "coexistence (fixed density)".into(),
+            "phase separation, not constructed".into(),
         ],
         series,
         bands,

@@ -2,6 +2,7 @@
 //! over the wavevector). Solvers hold only their tolerances; every solve returns a report with the
 //! value, its error estimate and why it stopped.
 
+pub mod canonical;
 pub mod optimize;
 pub mod ordered;
 pub mod roots;

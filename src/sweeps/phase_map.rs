@@ -10,6 +10,7 @@ use crate::error::{InputError, NestorError, NumericalError};
 use crate::kernels::grand_potential::quartic_loop;
 use crate::kernels::Shell;
 use crate::model::Model;
+use crate::solvers::canonical::canonical_state;
 use crate::solvers::ordered::{plane_wave_q_scale, OrderedSolver, StateKind};
 use crate::solvers::roots::brent_root;
 use crate::solvers::{TcSolver, TcStatus};
@@ -26,6 +27,11 @@ pub struct Cell {
     pub uniform_omega: Option<f64>,
     /// Lowest Omega among the other minima (normal, plane wave); None when there is none.
     pub other_omega: Option<f64>,
+    /// Canonical mode: the ordered fraction when the point lies in a coexistence region.
+    pub coexistence: Option<f64>,
+    /// Canonical mode: the normal phase is unstable at the fixed density but no single phase
+    /// was found (phase separation between ordered states, not constructed).
+    pub undetermined: bool,
     /// Whether the normal state is a local minimum (alpha > 0).
     pub normal_minimum: bool,
 }
@@ -77,6 +83,9 @@ pub struct PhaseOptions {
     pub temperatures: usize,
     /// Compute plane-wave states where the modulated instability lies above the uniform one.
     pub modulated: bool,
+    /// Canonical mode: the net carrier density of the configuration's normal state at T = 0 is
+    /// held fixed (uniform and normal states; a first-order jump becomes coexistence).
+    pub fixed_density: bool,
     pub threads: Option<usize>,
     pub progress: bool,
 }
@@ -147,6 +156,33 @@ fn column(
     for &t in temps {
         let want_pw = opts.modulated && modulated_above && t < md.tc.tc;
         let qs = want_pw.then(|| plane_wave_q_scale(m, ch, t).max(2.0 * md.q[0].hypot(md.q[1])));
+        if opts.fixed_density {
+            let lambda = ch.lambda().max(1e-3);
+            let d0 = ch.cutoff / (1.0 / lambda).sinh();
+            let min_offset = m
+                .pockets
+                .iter()
+                .map(|p| p.offset().abs())
+                .fold(f64::INFINITY, f64::min);
+            let window = (2.0 * (ch.mismatch.abs() + d0) + 4.0 * t).min(0.5 * min_offset);
+            let cell = canonical_state(os, m, opts.channel, t, window).map(|c| Cell {
+                state: if c.state == "normal" {
+                    StateKind::Normal
+                } else {
+                    StateKind::Uniform
+                },
+                undetermined: c.state == "undetermined",
+                delta: c.delta,
+                q: [0.0, 0.0],
+                omega: f64::NAN,
+                uniform_omega: None,
+                normal_minimum: true,
+                other_omega: None,
+                coexistence: c.ordered_fraction,
+            });
+            cells.push(cell.map_err(|e| e.to_string()));
+            continue;
+        }
         let cell = solve_cell(os, m, ch, t, qs, md.q).map(|st| {
             let c = st.chosen();
             Cell {
@@ -167,6 +203,8 @@ fn column(
                     .filter(|s| s.state != StateKind::Uniform && s.minimum)
                     .map(|s| s.omega)
                     .reduce(f64::min),
+                coexistence: None,
+                undetermined: false,
             }
         });
         cells.push(cell.map_err(|e| e.to_string()));
