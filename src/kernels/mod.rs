@@ -3,6 +3,7 @@
 
 pub mod grand_potential;
 pub mod integrate;
+pub mod multichannel;
 pub mod quad;
 pub mod shell;
 pub mod susceptibility;
