@@ -6,7 +6,7 @@ use nestor::config::{parse_range, ConfigSource, Override};
 use nestor::error::{InputError, NestorError};
 use nestor::model::Model;
 use nestor::reports::{scan as scan_report, tables};
-use nestor::solvers::ordered::{plane_wave_q_scale, spectrum, OrderedSolver};
+use nestor::solvers::ordered::{coupled_uniform, plane_wave_q_scale, spectrum, OrderedSolver};
 use nestor::solvers::tc_channel::{channel_tc, Method};
 use nestor::solvers::TcSolver;
 use nestor::sweeps::phase_map::{phase_diagram, PhaseOptions};
@@ -339,8 +339,26 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 json_channels.push(cj);
                 text.push('\n');
             }
+            // Uniform channels that share a pocket, ordered together.
+            let mut coupled = Vec::new();
+            for i in 0..model.channels.len() {
+                for j in i + 1..model.channels.len() {
+                    let (ci, cj) = (&model.channels[i], &model.channels[j]);
+                    let share = [ci.a, ci.b].iter().any(|p| *p == cj.a || *p == cj.b);
+                    if share && ci.spin_channels == cj.spin_channels {
+                        let c =
+                            coupled_uniform(&s, &model, [i, j], t).map_err(NestorError::from)?;
+                        text += &format!(
+                            "channels {} and {} share a pocket: they {} (uniform gaps {:.5}, {:.5} meV; Omega {:.5e} vs {:.5e} / {:.5e} alone, meV/nm^2 per spin channel); relative phase: {}\n",
+                            c.channels[0], c.channels[1], c.outcome, c.deltas[0], c.deltas[1], c.omega, c.omega_single[0], c.omega_single[1], c.relative_phase
+                        );
+                        coupled.push(serde_json::to_value(&c).unwrap_or_default());
+                    }
+                }
+            }
             if a.json {
                 let mut v = tables::header(&src, "solve");
+                v["coupled_channels"] = serde_json::Value::Array(coupled);
                 v["channels"] = serde_json::Value::Array(json_channels);
                 v["warnings"] = serde_json::json!(model.warnings);
                 print_json(&v);

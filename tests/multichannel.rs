@@ -103,3 +103,21 @@ fn symmetry_related_channels_sharing_a_pocket() {
         both.value
     );
 }
+
+/// The two symmetry-related demo channels have equal single-channel Omega, and ordering them
+/// together never does worse than either alone (the coupled minimum starts from each single
+/// solution); the outcome (coexist or compete) and the relative phase are reported.
+#[test]
+fn coupled_channels_report_coexistence_or_competition() {
+    let m = demo();
+    let os = nestor::solvers::ordered::OrderedSolver::default();
+    let t = nestor::units::kelvin_to_mev(3.0);
+    let c = nestor::solvers::ordered::coupled_uniform(&os, &m, [0, 1], t).unwrap();
+    assert!((c.omega_single[0] / c.omega_single[1] - 1.0).abs() < 1e-6);
+    assert!(c.omega <= c.omega_single[0].min(c.omega_single[1]) * (1.0 - 1e-9));
+    assert!(c.outcome == "coexist" || c.outcome == "compete");
+    if c.outcome == "compete" {
+        assert!(c.deltas[0].min(c.deltas[1]) < 1e-3 * c.deltas[0].max(c.deltas[1]));
+    }
+    assert!(c.relative_phase.contains("free"));
+}

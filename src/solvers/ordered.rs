@@ -483,3 +483,97 @@ pub fn spectrum(model: &Model, ch: &Channel, sol: &Solution) -> Result<Spectrum,
         gapless_arcs_deg: arcs,
     })
 }
+
+/// Two uniform channels that share a pocket, ordered together (physics.md section 4).
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct CoupledChannels {
+    pub channels: [String; 2],
+    /// Gaps (meV) at the lowest Omega found over (Delta_1, Delta_2) >= 0.
+    pub deltas: [f64; 2],
+    /// Omega per spin channel there, meV/nm^2.
+    pub omega: f64,
+    /// Omega of each channel ordered alone (its own lowest minimum), meV/nm^2.
+    pub omega_single: [f64; 2],
+    /// "coexist" (both gaps non-zero at the minimum) or "compete" (one gap vanishes).
+    pub outcome: String,
+    /// The relative phase of the two order parameters.
+    pub relative_phase: String,
+}
+
+/// Minimises Omega over (Delta_1, Delta_2) for two uniform channels sharing a pocket, starting
+/// from each channel's own solution, by alternating Brent minimisations in each gap.
+pub fn coupled_uniform(
+    os: &OrderedSolver,
+    model: &Model,
+    pair: [usize; 2],
+    t: f64,
+) -> Result<CoupledChannels, NumericalError> {
+    use crate::kernels::multichannel::omega_uniform_channels;
+    let acc = os.acc;
+    let om = |d: [f64; 2]| -> Result<f64, NumericalError> {
+        Ok(omega_uniform_channels(model, &pair, &d, t, &acc)?.value)
+    };
+    let mut single = [0.0; 2];
+    let mut d_single = [0.0; 2];
+    for (i, &c) in pair.iter().enumerate() {
+        let st = os.solve(model, &model.channels[c], t, None)?;
+        let ch = st.chosen();
+        single[i] = ch.omega;
+        d_single[i] = ch.delta;
+    }
+    let mut best: Option<([f64; 2], f64)> = None;
+    for start in [
+        [d_single[0], 0.0],
+        [0.0, d_single[1]],
+        [d_single[0], d_single[1]],
+    ] {
+        let mut d = start;
+        let mut value = om(d)?;
+        for _ in 0..4 {
+            for i in 0..2 {
+                let hi = 1.5 * d_single[i].max(d[i]).max(1e-9);
+                let m = brent_max("coupled gap", 0.0, hi, 1e-6 * hi, |x| {
+                    let mut e = d;
+                    e[i] = x;
+                    Ok(-om(e)?)
+                })?;
+                if -m.value < value {
+                    d[i] = m.x;
+                    value = -m.value;
+                }
+            }
+        }
+        if best.is_none_or(|b| value < b.1) {
+            best = Some((d, value));
+        }
+    }
+    let (d, value) = best.unwrap_or(([0.0, 0.0], 0.0));
+    let small = |i: usize| d[i] < 1e-3 * d_single[i].max(1e-12);
+    let outcome = if !small(0) && !small(1) {
+        "coexist"
+    } else {
+        "compete"
+    };
+    let (c1, c2) = (&model.channels[pair[0]], &model.channels[pair[1]]);
+    let p1 = c1.nesting_vector(model);
+    let p2 = c2.nesting_vector(model);
+    let commensurate = model.surface.map(|l| {
+        let f = |p: [f64; 2]| {
+            let g = l.fold([2.0 * p[0], 2.0 * p[1]]);
+            g[0].hypot(g[1]) < 1e-9
+        };
+        f(p1) && f(p2)
+    });
+    let relative_phase = match commensurate {
+        Some(true) => "free in this model (the gauge of the unshared pockets absorbs it); 2P is a reciprocal vector for both channels, so umklapp terms (not in the model) would pin it".into(),
+        _ => "free (a Goldstone-like phase: the gauge of the unshared pockets absorbs it)".into(),
+    };
+    Ok(CoupledChannels {
+        channels: [c1.label.clone(), c2.label.clone()],
+        deltas: d,
+        omega: value,
+        omega_single: single,
+        outcome: outcome.into(),
+        relative_phase,
+    })
+}
