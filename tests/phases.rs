@@ -168,3 +168,49 @@ fn phases_command_outputs() {
     assert!(dir.join("phases_eh.png").exists() && dir.join("phases_eh.svg").exists());
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// Bad options of `phases` and `solve` give exit code 2 and a message naming the option.
+#[test]
+fn bad_phase_options_are_rejected() {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    for (args, fragment) in [
+        (
+            vec![
+                "phases",
+                cfg,
+                "--vary",
+                "h.offset=100:100.3:5",
+                "--temperatures=1",
+            ],
+            "--temperatures",
+        ),
+        (
+            vec!["phases", cfg, "--vary", "h.offset=100:100.3:5", "--tmax=-2"],
+            "--tmax",
+        ),
+        (
+            vec![
+                "phases",
+                cfg,
+                "--vary",
+                "h.offset=100:100.3:5",
+                "--channel",
+                "zz",
+            ],
+            "--channel zz",
+        ),
+        (
+            vec!["phases", cfg, "--vary", "h.colour=100:100.3:5"],
+            "colour",
+        ),
+        (vec!["solve", cfg, "--temperature", "nan"], "--temperature"),
+    ] {
+        let (code, out, err) = run(&args);
+        assert_eq!(code, 2, "{args:?}: {err}");
+        assert!(err.contains(fragment), "{args:?}: {err}");
+        assert!(out.is_empty() && !err.contains("panicked"));
+    }
+}
