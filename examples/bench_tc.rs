@@ -1,5 +1,6 @@
 //! Benchmark of the critical-temperature path on the machine at hand: one uniform Tc, one
-//! modulated Tc, a 101-point curve and a 41 x 41 map, at the default accuracy (each
+//! modulated Tc, an anisotropic channel, a point without instability, a 101-point curve and a
+//! 41 x 41 map, at the default accuracy (each
 //! susceptibility to 1e-7 relative; Tc roots to 1e-10 relative; the radial rule checked at the
 //! root). Run: cargo run --release --example bench_tc [-- --quick]
 //!
@@ -7,7 +8,7 @@
 //! cutoff/E_F = 0.05, lambda = 0.25), at a mismatch beyond the Lifshitz point so that the
 //! modulated search is exercised.
 
-use nestor::config::{parse_range, ConfigSource};
+use nestor::config::{parse_range, ConfigSource, Override};
 use nestor::solvers::tc_channel::{channel_tc, Method};
 use nestor::solvers::TcSolver;
 use nestor::sweeps::{tc_scan::scan_tc, Grid};
@@ -34,6 +35,9 @@ pockets = ["e", "h"]
 lambda = 0.25
 cutoff = 5.0
 "#;
+
+/// The demonstration surface (the same file the binary embeds).
+const DEMO: &str = include_str!("../configs/demo_surface.toml");
 
 fn main() {
     let quick = std::env::args().any(|a| a == "--quick");
@@ -69,6 +73,39 @@ fn main() {
         t0.elapsed().as_secs_f64() * 1e3 / 5.0
     );
     let _ = channel_tc(&m, ch, &solver, Method::Weak).unwrap();
+    // Two harder single points: an anisotropic channel (helical Dirac pocket and an anisotropic
+    // electron pocket; six directions of q), and a point with no instability at all (the scan
+    // runs down to the temperature floor, where chi(q) has sharp angular structure).
+    for (label, text, set) in [
+        (
+            "anisotropic channel XG of the demo surface at G.offset = 185",
+            DEMO,
+            "G.offset=185",
+        ),
+        (
+            "no instability (reference pair at h.offset = 100.5)",
+            CONFIG,
+            "h.offset=100.5",
+        ),
+    ] {
+        let src = ConfigSource::from_text(label, text)
+            .unwrap()
+            .with_overrides(&[Override::parse(set).unwrap()])
+            .unwrap();
+        let m = src.build(None).unwrap();
+        let ch = &m.channels[0];
+        let t0 = Instant::now();
+        let u = solver.uniform(&m, ch).unwrap();
+        let md = solver.modulated(&m, ch, &u).unwrap();
+        println!(
+            "{label}: uniform {:.6} meV, modulated {:.6} meV ({} + {} chi evaluations), {:.0} ms",
+            u.tc,
+            md.tc.tc,
+            u.evaluations,
+            md.tc.evaluations,
+            t0.elapsed().as_secs_f64() * 1e3
+        );
+    }
     let base = src.build(None).unwrap();
     for threads in [1, 2] {
         let grid = Grid::new(vec![parse_range("h.offset=99.9:100.3:101").unwrap()]).unwrap();

@@ -4,7 +4,7 @@
 //! shell goes through here.
 
 use crate::error::NumericalError;
-use crate::kernels::quad::PanelRule;
+use crate::kernels::quad::{graded_breakpoints, Feature, PanelRule};
 use crate::kernels::shell::{AngularSymmetry, PairPoint, Shell};
 use std::f64::consts::PI;
 
@@ -139,19 +139,49 @@ where
     // Sharp angular structure (low T, q != 0, anisotropic pockets): adaptive Gauss-Legendre
     // panels in angle, each accepted when its two halves agree with it.
     let used = n * factor as usize;
-    adaptive_angles(span, factor, acc, used, value, &mut ray, &converged)
+    let uniform: Vec<f64> = (0..=ADAPTIVE_PANELS)
+        .map(|j| span * j as f64 / ADAPTIVE_PANELS as f64)
+        .collect();
+    adaptive_angles(
+        span,
+        factor,
+        acc,
+        used,
+        &uniform,
+        Some(value),
+        &mut ray,
+        &converged,
+    )
+}
+
+/// Panels of the adaptive angular rule where no features are known.
+const ADAPTIVE_PANELS: usize = 32;
+
+/// The part of the circle a symmetry needs: (span, closed, factor): the integral over the full
+/// circle is `factor` times the integral over [0, span] (closed: a mirror, with both ends on the
+/// symmetry lines).
+fn angular_span(symmetry: AngularSymmetry) -> (f64, bool, f64) {
+    match symmetry {
+        AngularSymmetry::SingleRay | AngularSymmetry::None => (2.0 * PI, false, 1.0),
+        AngularSymmetry::Inversion => (PI, false, 2.0),
+        AngularSymmetry::Mirror => (PI, true, 2.0),
+    }
 }
 
 /// Rays of the periodic trapezoid rule before switching to adaptive panels.
 const TRAPEZOID_RAYS: usize = 512;
 
+/// Adaptive Gauss-Legendre panels in angle over [0, span], starting from the panels between
+/// `breaks`: each panel is accepted when its two halves agree with it to its share (by width) of
+/// the target, relative to `first_guess` (by default the sum over the starting panels).
 #[allow(clippy::too_many_arguments)]
 fn adaptive_angles<const N: usize, R, C>(
     span: f64,
     factor: f64,
     acc: &Accuracy,
     mut used: usize,
-    first_guess: [f64; N],
+    breaks: &[f64],
+    first_guess: Option<[f64; N]>,
     ray: &mut R,
     converged: &C,
 ) -> Result<([f64; N], [f64; N], usize), NumericalError>
@@ -183,20 +213,21 @@ where
             None => Ok(out.map(|x| factor * x * norm)),
         }
     };
-    let n0 = 32;
     let mut stack: Vec<(f64, f64, [f64; N])> = Vec::new();
-    for j in 0..n0 {
-        let (a, b) = (
-            span * j as f64 / n0 as f64,
-            span * (j + 1) as f64 / n0 as f64,
-        );
-        let v = panel(a, b, &mut used)?;
-        stack.push((a, b, v));
+    let mut base = [0.0; N];
+    for w in breaks.windows(2) {
+        let v = panel(w[0], w[1], &mut used)?;
+        for i in 0..N {
+            base[i] += v[i];
+        }
+        stack.push((w[0], w[1], v));
     }
+    // Largest panels first off the stack matters little; keep the order of the angle.
+    stack.reverse();
     let budget = acc.max_rays.max(1 << 17);
     let mut total = [0.0; N];
     let mut total_change = [0.0; N];
-    let guess = first_guess;
+    let guess = first_guess.unwrap_or(base);
     while let Some((a, b, coarse)) = stack.pop() {
         if used > budget {
             return Err(NumericalError::NotConverged {
@@ -240,6 +271,181 @@ pub fn shell_integral<F>(
 where
     F: Fn([f64; 2], &PairPoint) -> f64,
 {
+    shell_integral_with(shell, energy_scale, extra, acc, false, f)
+}
+
+/// As [`shell_integral`], for integrands whose angular structure comes only from the crossings
+/// (and near-touchings) of the two Fermi surfaces, i.e. from the zeros and small minima of
+/// h_k along the nesting line, smeared over `energy_scale` (the pair susceptibility). Where
+/// those make the angular integrand sharp, the angular rule starts directly from adaptive
+/// Gauss-Legendre panels graded around them, instead of doubling the trapezoid rule first.
+pub fn shell_integral_graded<F>(
+    shell: &Shell,
+    energy_scale: f64,
+    extra: &[(f64, f64)],
+    acc: &Accuracy,
+    f: F,
+) -> Result<Estimate, NumericalError>
+where
+    F: Fn([f64; 2], &PairPoint) -> f64,
+{
+    shell_integral_with(shell, energy_scale, extra, acc, true, f)
+}
+
+/// Samples of h along the nesting line used to locate the angular features.
+const FEATURE_SAMPLES: usize = 32;
+
+/// Graded angular panels: the panel at a feature is this many times `feature_width` times the
+/// feature's width, panels grow by this many times `growth` times the distance to it, and no
+/// panel is wider than the span over `MIN_ANGULAR_PANELS` (the adaptive rule refines them).
+const ANGULAR_WIDTH: f64 = 8.0;
+const ANGULAR_GROWTH: f64 = 4.0;
+const MIN_ANGULAR_PANELS: usize = 4;
+
+/// Angles where the Fermi surfaces cross (h = 0 on the nesting line, width energy_scale / |h'|)
+/// or come closest (a local minimum of |h|, width sqrt(2 max(|h|, energy_scale) / |h''|)),
+/// over [0, span]. Returns (angle, width) pairs.
+fn angular_features(
+    shell: &Shell,
+    energy_scale: f64,
+    span: f64,
+    closed: bool,
+) -> Result<Vec<(f64, f64)>, NumericalError> {
+    if shell.xi_centre >= 0.0 || energy_scale.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater)
+    {
+        return Ok(Vec::new());
+    }
+    let h0 = |th: f64| -> Result<f64, NumericalError> {
+        let u = [th.cos(), th.sin()];
+        let r0 = shell.xi_radius(u, 0.0)?;
+        Ok(shell.at(shell.point_on_ray(u, r0)).h())
+    };
+    let m = FEATURE_SAMPLES;
+    let dth = span / m as f64;
+    let mut hv = Vec::with_capacity(m + 1);
+    for j in 0..=m {
+        hv.push(h0(dth * j as f64)?);
+    }
+    // Neighbours across the ends: periodic, or mirrored about the end points.
+    let at = |j: isize| -> f64 {
+        let mi = m as isize;
+        if closed {
+            let j = if j < 0 {
+                -j
+            } else if j > mi {
+                2 * mi - j
+            } else {
+                j
+            };
+            hv[j as usize]
+        } else {
+            hv[j.rem_euclid(mi) as usize]
+        }
+    };
+    let mut out = Vec::new();
+    for j in 0..m {
+        let (a, b) = (hv[j], hv[j + 1]);
+        if a == 0.0 || a.signum() == b.signum() {
+            continue;
+        }
+        // Illinois false position for the crossing.
+        let (mut x0, mut x1, mut f0, mut f1) = (dth * j as f64, dth * (j + 1) as f64, a, b);
+        let mut side = 0;
+        for _ in 0..100 {
+            let x = (x0 * f1 - x1 * f0) / (f1 - f0);
+            let fx = h0(x)?;
+            if fx == 0.0 || (x1 - x0).abs() < 1e-10 * span {
+                x0 = x;
+                x1 = x;
+                break;
+            }
+            if fx.signum() == f1.signum() {
+                x1 = x;
+                f1 = fx;
+                if side == -1 {
+                    f0 *= 0.5;
+                }
+                side = -1;
+            } else {
+                x0 = x;
+                f0 = fx;
+                if side == 1 {
+                    f1 *= 0.5;
+                }
+                side = 1;
+            }
+        }
+        let x = 0.5 * (x0 + x1);
+        let d = 1e-6 * span;
+        let slope = (h0(x + d)? - h0(x - d)?) / (2.0 * d);
+        out.push((x, (energy_scale / slope.abs()).min(span)));
+    }
+    for j in 0..=m as isize {
+        if !closed && j == m as isize {
+            break;
+        }
+        let (l, c, r) = (at(j - 1), at(j), at(j + 1));
+        if !(c.abs() <= l.abs() && c.abs() <= r.abs())
+            || l.signum() != c.signum()
+            || r.signum() != c.signum()
+        {
+            continue;
+        }
+        // Parabola through the three samples: minimum of |h| and its curvature.
+        let curv = (l + r - 2.0 * c) / (dth * dth);
+        if curv == 0.0 {
+            continue;
+        }
+        let shift = (-(r - l) / (2.0 * dth * curv)).clamp(-dth, dth);
+        let hm = c + 0.5 * (r - l) / (2.0 * dth) * shift + 0.5 * curv * shift * shift;
+        let x = (dth * j as f64 + shift).clamp(0.0, span);
+        let width = (2.0 * hm.abs().max(energy_scale) / curv.abs()).sqrt();
+        out.push((x, width.min(span)));
+    }
+    Ok(out)
+}
+
+/// Panel breakpoints in angle over [0, span], graded around the features (and their images
+/// across the ends of the span).
+fn angular_breaks(features: &[(f64, f64)], span: f64, closed: bool, acc: &Accuracy) -> Vec<f64> {
+    let mut feats = Vec::with_capacity(3 * features.len());
+    for &(x, w) in features {
+        let scale = w * ANGULAR_WIDTH * acc.feature_width;
+        let images = if closed {
+            [x, -x, 2.0 * span - x]
+        } else {
+            [x, x - span, x + span]
+        };
+        for at in images {
+            feats.push(Feature { at, scale });
+        }
+    }
+    let mut out = Vec::new();
+    graded_breakpoints(0.0, span, &feats, ANGULAR_GROWTH * acc.growth, &mut out);
+    // Panels no wider than the coarsest uniform start.
+    let mut fine = Vec::with_capacity(out.len() + ADAPTIVE_PANELS);
+    let widest = span / MIN_ANGULAR_PANELS as f64;
+    for w in out.windows(2) {
+        let k = ((w[1] - w[0]) / widest).ceil().max(1.0) as usize;
+        for i in 0..k {
+            fine.push(w[0] + (w[1] - w[0]) * i as f64 / k as f64);
+        }
+    }
+    fine.push(span);
+    fine
+}
+
+fn shell_integral_with<F>(
+    shell: &Shell,
+    energy_scale: f64,
+    extra: &[(f64, f64)],
+    acc: &Accuracy,
+    graded: bool,
+    f: F,
+) -> Result<Estimate, NumericalError>
+where
+    F: Fn([f64; 2], &PairPoint) -> f64,
+{
     let rule = PanelRule::new(acc.order);
     let mut breaks = Vec::new();
     let width = energy_scale * acc.feature_width;
@@ -258,10 +464,36 @@ where
         }
         Ok([s, sa])
     };
-    let (value, change, rays) =
-        angular_doubling::<2, _, _>(shell.symmetry, acc, ray_integral, |c, v| {
-            c[0] <= acc.rtol * v[0].abs().max(1e-3 * v[1]) || v[1] == 0.0
-        })?;
+    let converged =
+        |c: &[f64; 2], v: &[f64; 2]| c[0] <= acc.rtol * v[0].abs().max(1e-3 * v[1]) || v[1] == 0.0;
+    let (span, closed, factor) = angular_span(shell.symmetry);
+    let features = if graded && shell.symmetry != AngularSymmetry::SingleRay {
+        angular_features(shell, energy_scale, span, closed)?
+    } else {
+        Vec::new()
+    };
+    let breaks = if features.is_empty() {
+        None
+    } else {
+        let breaks = angular_breaks(&features, span, closed, acc);
+        // Rays each rule is expected to need over [0, span]: the trapezoid about ln(1/rtol)
+        // per narrowest width (plus the adaptive fallback where that passes its limit); the
+        // graded panels 24 per panel (a panel and its two halves).
+        let narrowest = features.iter().map(|f| f.1).fold(f64::INFINITY, f64::min);
+        let full = (1.0 / acc.rtol).ln().max(1.0) / narrowest;
+        let mut trapezoid = full * span / (2.0 * PI);
+        if full > TRAPEZOID_RAYS as f64 {
+            trapezoid += (24 * ADAPTIVE_PANELS) as f64;
+        }
+        let graded = (24 * (breaks.len() - 1)) as f64;
+        (graded < trapezoid).then_some(breaks)
+    };
+    let (value, change, rays) = if let Some(breaks) = breaks {
+        let mut ray = ray_integral;
+        adaptive_angles::<2, _, _>(span, factor, acc, 0, &breaks, None, &mut ray, &converged)?
+    } else {
+        angular_doubling::<2, _, _>(shell.symmetry, acc, ray_integral, converged)?
+    };
     Ok(Estimate {
         value: value[0],
         error: change[0],

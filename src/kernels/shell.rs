@@ -269,7 +269,25 @@ impl<'m> Shell<'m> {
         self.field_root(Field::Xi, u, level, 0.0, hi)
     }
 
-    /// Root of field(r) = level on [lo, hi] where it changes sign (safeguarded Newton).
+    /// field(r) = c0 + c1 r + c2 r^2 along u, exactly, where the field is quadratic (a parabolic
+    /// band, or xi between two parabolic bands).
+    fn quadratic_along(&self, field: Field, u: [f64; 2]) -> Option<[f64; 3]> {
+        let curvature = |p: &Pocket| match p.dispersion {
+            crate::model::Dispersion::Parabolic { sign, .. } => Some(sign * quad_form(p, u)),
+            _ => None,
+        };
+        let c2 = match field {
+            Field::EpsA => curvature(self.a)?,
+            Field::EpsB => curvature(self.b)?,
+            Field::Xi => 0.5 * (curvature(self.a)? - curvature(self.b)?),
+        };
+        let (c0, c1) = self.field_along(field, u, 0.0);
+        Some([c0, c1, c2])
+    }
+
+    /// Root of field(r) = level on [lo, hi] where it changes sign: in closed form where the
+    /// field is quadratic along the ray, otherwise (or if rounding puts the closed form outside
+    /// the bracket) by safeguarded Newton.
     pub fn field_root(
         &self,
         field: Field,
@@ -293,7 +311,19 @@ impl<'m> Shell<'m> {
                 hi,
             });
         }
-        let mut r = 0.5 * (lo + hi);
+        if let Some([c0, c1, c2]) = self.quadratic_along(field, u) {
+            if let Some(r) = quadratic_root_in(c0 - level, c1, c2, lo, hi) {
+                return Ok(r);
+            }
+        }
+        // Start from the secant through the bracket ends (the fields are close to linear in r
+        // over a shell), kept inside the bracket.
+        let secant = lo + (hi - lo) * flo / (flo - fhi);
+        let mut r = if secant > lo && secant < hi {
+            secant
+        } else {
+            0.5 * (lo + hi)
+        };
         for _ in 0..200 {
             let (f, d) = self.field_along(field, u, r);
             let f = f - level;
@@ -343,7 +373,12 @@ impl<'m> Shell<'m> {
         let add_xi =
             |level: f64, width: f64, feats: &mut Vec<Feature>| -> Result<(), NumericalError> {
                 if level > self.xi_lo && level < self.cutoff {
-                    let r = self.xi_radius(u, level)?;
+                    // Inside the shell: the crossing lies between the edges found above.
+                    let r = if self.parabolic {
+                        self.xi_radius(u, level)?
+                    } else {
+                        self.field_root(Field::Xi, u, level, r_lo, r_hi)?
+                    };
                     let (_, d) = self.field_along(Field::Xi, u, r);
                     feats.push(Feature {
                         at: r,
@@ -414,6 +449,22 @@ fn quadratic_tensor(p: &Pocket) -> [[f64; 2]; 2] {
         [c[0] * co * co + c[1] * si * si, (c[0] - c[1]) * co * si],
         [(c[0] - c[1]) * co * si, c[0] * si * si + c[1] * co * co],
     ]
+}
+
+/// The root of c0 + c1 r + c2 r^2 in [lo, hi] (stable form of the quadratic formula), if one
+/// lies there.
+fn quadratic_root_in(c0: f64, c1: f64, c2: f64, lo: f64, hi: f64) -> Option<f64> {
+    let inside = |r: f64| r.is_finite() && r >= lo && r <= hi;
+    if c2 == 0.0 {
+        let r = -c0 / c1;
+        return inside(r).then_some(r);
+    }
+    let disc = c1 * c1 - 4.0 * c2 * c0;
+    if disc < 0.0 {
+        return None;
+    }
+    let w = -0.5 * (c1 + disc.sqrt().copysign(c1));
+    [w / c2, c0 / w].into_iter().find(|&r| inside(r))
 }
 
 fn quad_form(p: &Pocket, u: [f64; 2]) -> f64 {

@@ -70,18 +70,20 @@ fn dirac_moment(x: f64, t: f64) -> f64 {
     let y = x / t;
     // -Li2(-e^y) = y^2/2 + pi^2/6 + Li2(-e^{-y}) for y > 0; = -Li2(-e^y) directly for y <= 0.
     let li2_neg = |z: f64| -> f64 {
-        // Li2(-z) for 0 <= z <= 1 by its series (converges; z = 1 slowest, use many terms).
+        // Li2(-z) for 0 <= z <= 1 by Landen's identity Li2(-z) = -Li2(z/(1+z)) - ln^2(1+z)/2,
+        // whose series in w = z/(1+z) <= 1/2 converges geometrically.
+        let w = z / (1.0 + z);
         let mut s = 0.0;
         let mut p = 1.0;
-        for k in 1..=4000 {
-            p *= -z;
+        for k in 1..=200 {
+            p *= w;
             let term = p / (k * k) as f64;
             s += term;
-            if term.abs() < 1e-17 {
+            if term < 1e-18 {
                 break;
             }
         }
-        s
+        -s - 0.5 * z.ln_1p().powi(2)
     };
     let val = if y > 0.0 {
         0.5 * y * y + std::f64::consts::PI.powi(2) / 6.0 + li2_neg((-y).exp())
@@ -110,6 +112,9 @@ pub struct CanonicalState {
     pub density: f64,
 }
 
+/// (net carrier density, gap, Omega per spin channel) of a uniform minimum.
+type UniformBranch = (f64, f64, f64);
+
 /// Net carrier density of the lowest uniform minimum at shift s (None when there is none), with
 /// its gap and Omega (per spin channel), and the normal density.
 fn uniform_at(
@@ -118,7 +123,7 @@ fn uniform_at(
     channel: usize,
     s: f64,
     t: f64,
-) -> Result<(f64, Option<(f64, f64, f64)>), NumericalError> {
+) -> Result<(f64, Option<UniformBranch>), NumericalError> {
     let m = shifted(model, s);
     let ch = &m.channels[channel];
     let n_normal = normal_carriers(&m, t);
