@@ -10,6 +10,6 @@ cargo build --release
 cp figures/map/scan_tc_eh.png figures/map_tc_eh.png
 cp figures/map/scan_tc_eh.svg figures/map_tc_eh.svg
 ./target/release/nestor phases configs/reference/nested_parabolic.toml \
-  --vary h.offset=100.0:100.4:41 --temperatures 31 --out figures/map
+  --vary h.offset=100.0:100.4:41 --temperatures 41 --out figures/map
 cp figures/map/phases_eh.png figures/phases_eh.png
 cp figures/map/phases_eh.svg figures/phases_eh.svg

@@ -476,3 +476,21 @@ fn quad_form(p: &Pocket, u: [f64; 2]) -> f64 {
 pub fn unit(theta: f64) -> Complex64 {
     Complex64::from_polar(1.0, theta)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::quadratic_root_in;
+
+    /// The stable quadratic formula returns the root inside the bracket (both orders of the
+    /// roots, a vanishing linear term, a linear equation) and nothing when none lies there.
+    #[test]
+    fn quadratic_root_in_the_bracket() {
+        // (r - 1)(r - 3) = r^2 - 4 r + 3
+        assert_eq!(quadratic_root_in(3.0, -4.0, 1.0, 0.0, 2.0), Some(1.0));
+        assert_eq!(quadratic_root_in(3.0, -4.0, 1.0, 2.0, 5.0), Some(3.0));
+        assert_eq!(quadratic_root_in(3.0, -4.0, 1.0, 1.5, 2.5), None);
+        let r = quadratic_root_in(-2.0, 0.0, 1.0, 0.0, 2.0).unwrap();
+        assert!((r - 2f64.sqrt()).abs() < 1e-15);
+        assert_eq!(quadratic_root_in(-2.0, 1.0, 0.0, 0.0, 3.0), Some(2.0));
+    }
+}

@@ -1500,3 +1500,34 @@ impl<'a> Tracker<'a> {
         Ok(p)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The parabolic search finds a smooth maximum from a start off to one side (stepping out),
+    /// to the value tolerance, and rejects a zero step. cos has its maximum 1 at 0.3 here.
+    #[test]
+    fn parabolic_search_finds_a_smooth_maximum() {
+        let mut n = 0;
+        let m = parabolic_max("cos", 2.0, 0.1, [None; 3], 1e-12, 1e-14, |x| {
+            n += 1;
+            Ok((x - 0.3f64).cos())
+        })
+        .unwrap();
+        assert!((m.value - 1.0).abs() < 1e-11, "{}", m.value);
+        assert!((m.x - 0.3).abs() < 1e-5, "{}", m.x);
+        assert!(m.gain <= 1e-12 && (m.curvature - 1.0).abs() < 0.05);
+        assert!(n < 40, "{n} evaluations");
+        assert!(parabolic_max("zero", 1.0, 0.0, [None; 3], 1e-9, 1e-12, |x| Ok(-x * x)).is_err());
+    }
+
+    /// The gain of the parabola through three equally spaced values: zero for a symmetric
+    /// triple, 1/8 of the second difference for a one-sided one, never negative.
+    #[test]
+    fn parabola_gain_of_grid_triples() {
+        assert_eq!(parabola_gain(0.0, 1.0, 0.0), 0.0);
+        assert!((parabola_gain(0.0, 1.0, 1.0) - 0.125).abs() < 1e-15);
+        assert_eq!(parabola_gain(1.0, 0.5, 0.0), 0.5);
+    }
+}
