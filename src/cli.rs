@@ -602,6 +602,9 @@ fn run_phases(
         ),
         None => println!("Lifshitz point: none in range"),
     }
+    for f in &d.special_point_failures {
+        eprintln!("nestor: warning: {f}");
+    }
     let failed_cols = d.columns.iter().filter(|c| c.is_err()).count();
     let failed_cells: usize = d
         .columns
@@ -609,6 +612,12 @@ fn run_phases(
         .filter_map(|c| c.as_ref().ok())
         .map(|c| c.cells.iter().filter(|x| x.is_err()).count())
         .sum();
+    if !d.special_point_failures.is_empty() {
+        return Ok(Outcome::PartlyFailed(format!(
+            "{} special-point search(es) failed: a missing tricritical or Lifshitz point may not mean none in range",
+            d.special_point_failures.len()
+        )));
+    }
     if failed_cols + failed_cells > 0 {
         return Ok(Outcome::PartlyFailed(format!(
             "{failed_cols} columns and {failed_cells} grid points failed (reasons in the CSV)"

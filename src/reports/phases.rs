@@ -159,6 +159,7 @@ pub fn write_phases(
     });
     v["tricritical"] = special(&d.tricritical);
     v["lifshitz"] = special(&d.lifshitz);
+    v["special_point_failures"] = json!(d.special_point_failures);
     v["note"] = json!("uniform_instability is the line g chi(0, T) = 1 (second_order where beta > 0); the normal state's spinodal is that line, the uniform state's spinodal is where its minimum disappears; omega totals over spin channels");
     v["columns"] = Value::Array(
         d.columns

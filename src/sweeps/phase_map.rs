@@ -72,6 +72,8 @@ pub struct PhaseDiagram {
     pub spinodal: Vec<(f64, f64)>,
     pub tricritical: Option<SpecialPoint>,
     pub lifshitz: Option<SpecialPoint>,
+    /// Special-point searches that failed (so that a missing point is not read as "none").
+    pub special_point_failures: Vec<String>,
 }
 
 /// Options of the phase-diagram computation.
@@ -299,6 +301,10 @@ pub fn phase_diagram(
             .and_then(|m| tc.uniform(&m, &m.channels[opts.channel]).ok())
             .is_some_and(|u| u.status == TcStatus::Unstable)
     };
+    // Failures of the special-point searches are recorded, so that "none in range" is not
+    // reported where a search failed.
+    let failures = std::cell::RefCell::new(Vec::<String>::new());
+    let fail = |what: &str, e: String| failures.borrow_mut().push(format!("{what}: {e}"));
     let refine =
         |pick: fn(&Column) -> Option<f64>, what: &str, which: u8| -> Option<SpecialPoint> {
             for w in columns.windows(2) {
@@ -353,26 +359,48 @@ pub fn phase_diagram(
                 };
                 let x = match brent_root(what, lo, hi, 1e-8, eval) {
                     Ok(r) => r.x,
-                    Err(_) => continue,
+                    // No sign change between a column and the nose of the uniform line: no point.
+                    Err(NumericalError::NotBracketed { .. }) => continue,
+                    Err(e) => {
+                        fail(what, e.to_string());
+                        continue;
+                    }
                 };
-                let m = base
+                let m = match base
                     .with_overrides(&[range.at(x)])
-                    .ok()?
-                    .build(Some(&pinned))
-                    .ok()?;
+                    .and_then(|s| s.build(Some(&pinned)))
+                {
+                    Ok(m) => m,
+                    Err(e) => {
+                        fail(what, e.to_string());
+                        return None;
+                    }
+                };
                 let ch = &m.channels[opts.channel];
-                let u = tc.uniform(&m, ch).ok()?;
-                let md = tc.modulated(&m, ch, &u).ok()?;
+                let (u, md) = match tc
+                    .uniform(&m, ch)
+                    .and_then(|u| Ok((u.clone(), tc.modulated(&m, ch, &u)?)))
+                {
+                    Ok(x) => x,
+                    Err(e) => {
+                        fail(what, e.to_string());
+                        return None;
+                    }
+                };
                 let preempted_by_modulated = md.q != [0.0, 0.0] && md.tc.tc > u.tc * (1.0 + 1e-6);
                 let on_boundary = if which == 0 {
                     !preempted_by_modulated
                 } else {
                     // The Lifshitz point is on the boundary when the uniform line there is second order.
-                    let b =
-                        quartic_loop(&Shell::for_channel(&m, ch, [0.0, 0.0]).ok()?, u.tc, &tc.acc)
-                            .ok()?
-                            .value;
-                    b > 0.0
+                    match Shell::for_channel(&m, ch, [0.0, 0.0])
+                        .and_then(|sh| quartic_loop(&sh, u.tc, &tc.acc))
+                    {
+                        Ok(b) => b.value > 0.0,
+                        Err(e) => {
+                            fail(what, e.to_string());
+                            return None;
+                        }
+                    }
                 };
                 return Some(SpecialPoint {
                     value: x,
@@ -384,6 +412,7 @@ pub fn phase_diagram(
         };
     let tricritical = refine(|c| c.beta_uniform, "tricritical point", 0);
     let lifshitz = refine(|c| c.curvature_uniform, "Lifshitz point", 1);
+    let special_point_failures = failures.into_inner();
     Ok(PhaseDiagram {
         channel: opts.channel,
         temperatures: temps,
@@ -392,5 +421,6 @@ pub fn phase_diagram(
         spinodal,
         tricritical,
         lifshitz,
+        special_point_failures,
     })
 }
