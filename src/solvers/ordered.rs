@@ -406,20 +406,8 @@ impl OrderedSolver {
 /// The search range of the plane-wave wavevector: 2 (|h| + 2 T) / v with v the smaller Fermi
 /// velocity and h the largest |h_k| on the nesting line; at least a tenth of the nested Tc in T.
 pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
-    let mut v = f64::INFINITY;
-    for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
-        v = v
-            .min(a.fermi_velocity_along(d))
-            .min(b.fermi_velocity_along(d));
-    }
-    let h = ch
-        .mismatch
-        .abs()
-        .max(ch.mismatch_range[0].abs())
-        .max(ch.mismatch_range[1].abs());
     let t_floor = crate::solvers::tc::nested_tc(ch).unwrap_or(0.0) * 0.1;
-    2.0 * (h + 2.0 * t.max(t_floor)) / v
+    crate::solvers::tc::q_search_scale(model, ch, t.max(t_floor))
 }
 
 /// The quasiparticle spectrum of a solution relative to the chemical potential.

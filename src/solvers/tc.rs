@@ -80,6 +80,25 @@ pub struct ModulatedTc {
     pub q_error: f64,
 }
 
+/// Scale of |q| (1/nm) for searches over the wavevector: 2 (|h| + 2T)/v, with v the smallest
+/// Fermi velocity of the channel's pockets over a few directions and |h| the largest |h_k| on the
+/// nesting line (v q/2 ~ h is where the modulated instability lies).
+pub fn q_search_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
+    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let mut v = f64::INFINITY;
+    for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
+        v = v
+            .min(a.fermi_velocity_along(d))
+            .min(b.fermi_velocity_along(d));
+    }
+    let h = ch
+        .mismatch
+        .abs()
+        .max(ch.mismatch_range[0].abs())
+        .max(ch.mismatch_range[1].abs());
+    2.0 * (h + 2.0 * t) / v
+}
+
 /// The nested Tc 1.134 Lambda exp(-1/lambda) in meV (BCS weak coupling), the reference scale of
 /// the searches; None when lambda = 0.
 pub fn nested_tc(ch: &Channel) -> Option<f64> {
@@ -270,21 +289,9 @@ impl TcSolver {
         self.at_q(model, ch, [0.0, 0.0])
     }
 
-    /// Scale of |q| for the search: 2 (|h| + T)/v with v the smaller Fermi velocity.
+    /// Scale of |q| for the search: see [`q_search_scale`].
     fn q_scale(&self, model: &Model, ch: &Channel, t: f64) -> f64 {
-        let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
-        let mut v = f64::INFINITY;
-        for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
-            v = v
-                .min(a.fermi_velocity_along(d))
-                .min(b.fermi_velocity_along(d));
-        }
-        let h = ch
-            .mismatch
-            .abs()
-            .max(ch.mismatch_range[0].abs())
-            .max(ch.mismatch_range[1].abs());
-        2.0 * (h + 2.0 * t) / v
+        q_search_scale(model, ch, t)
     }
 
     /// max over q of g chi(q, T): global coarse scan, then refinement. Returns (q, g chi).
