@@ -38,7 +38,10 @@ fn zero_temperature_gap_is_cutoff_over_sinh() {
             "{} vs {exact}",
             c.delta
         );
-        // Omega = -nu Delta0^2 / 2 (1 - Delta0^2/(4 cutoff^2) + ...) per spin channel, times 2.
+        // Per spin channel, T = 0, constant nu, h = 0: integrating -2 (sqrt(xi^2 + Delta^2) - |xi|)
+        // over |xi| < cutoff and using the gap equation gives
+        // Omega = -nu cutoff^2 (sqrt(1 + (Delta0/cutoff)^2) - 1) = -nu Delta0^2/2 (1 - ...)
+        // (derived in closed form; common practice).
         let nu = m.channels[0].nu;
         let om = -nu * CUTOFF * CUTOFF * ((1.0 + (exact / CUTOFF).powi(2)).sqrt() - 1.0);
         assert!((c.omega / om - 1.0).abs() < 1e-5, "{} vs {om}", c.omega);
