@@ -5,6 +5,7 @@
 //! momenta in 1/nm measured from each pocket's centre, hbar v in meV nm, masses in electron masses.
 
 pub mod pocket;
+pub mod structure;
 
 pub use pocket::{Dispersion, Pocket, PocketKind, Spin};
 

@@ -5,6 +5,9 @@
 pub mod canonical;
 pub mod optimize;
 pub mod ordered;
+pub mod pattern;
+pub mod pattern_state;
+pub mod relative_phases;
 pub mod roots;
 pub mod tc;
 pub mod tc_channel;
