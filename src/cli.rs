@@ -4,9 +4,14 @@
 use clap::{Args, Parser, Subcommand, ValueEnum};
 use nestor::config::{parse_range, ConfigSource, Override};
 use nestor::error::{InputError, NestorError};
+use nestor::model::structure::Structure;
 use nestor::model::Model;
+use nestor::reports::pattern::{pattern_json, pattern_text, write_pattern, PatternReport};
 use nestor::reports::{scan as scan_report, tables};
 use nestor::solvers::ordered::{coupled_uniform, plane_wave_q_scale, spectrum, OrderedSolver};
+use nestor::solvers::pattern::{
+    density_waves, lowest, single_wavevector_candidates, structure_candidates, PatternSolver,
+};
 use nestor::solvers::tc_channel::{channel_tc, Method};
 use nestor::solvers::TcSolver;
 use nestor::sweeps::phase_map::{phase_diagram, PhaseOptions};
@@ -45,7 +50,12 @@ pub enum Command {
     /// Phase diagram of one channel in the (parameter, temperature) plane: normal, uniform and
     /// modulated regions, second- and first-order lines, spinodal, tricritical and Lifshitz points.
     Phases(PhasesArgs),
-    /// Runs check, tc and a scan on the embedded demonstration surface.
+    /// Which modulated pattern forms: the ranking of multi-wavevector structures (plane, stripe,
+    /// orthogonal, triangle, square, hexagon, or listed wavevectors) on the modulated instability
+    /// line at one temperature, the chosen state at the configuration as given, and its density
+    /// modulation as a map beside its Fourier amplitudes.
+    Pattern(PatternArgs),
+    /// Runs check, tc, a scan, phases and pattern on the embedded demonstration surface.
     Demo(DemoArgs),
 }
 
@@ -155,6 +165,34 @@ pub struct PhasesArgs {
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     pub threads: Option<usize>,
+}
+
+#[derive(Args, Debug)]
+pub struct PatternArgs {
+    #[command(flatten)]
+    pub cfg: ConfigArgs,
+    /// Temperature in K (> 0).
+    #[arg(long, value_name = "K")]
+    pub temperature: f64,
+    /// The parameter varied to reach the modulated instability line, NAME.key (default: the
+    /// hole-like pocket's offset of the channel).
+    #[arg(long, value_name = "PATH")]
+    pub along: Option<String>,
+    /// Side of the real-space density map in nm.
+    #[arg(long, default_value_t = 60.0, value_name = "NM")]
+    pub fov: f64,
+    /// Channel name or label (default: the first channel).
+    #[arg(long)]
+    pub channel: Option<String>,
+    /// A further structure to rank, as wavevectors in 1/nm: "qx,qy;qx,qy;..." (repeatable).
+    #[arg(long, value_name = "QX,QY;...")]
+    pub wavevectors: Vec<String>,
+    /// Print JSON instead of tables.
+    #[arg(long)]
+    pub json: bool,
+    /// Output directory for the JSON report and the figures.
+    #[arg(long, default_value = "nestor-out")]
+    pub out: PathBuf,
 }
 
 #[derive(Args, Debug)]
@@ -368,6 +406,10 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             }
             Ok(Outcome::Done)
         }
+        Command::Pattern(a) => {
+            let (src, model) = load(&a.cfg)?;
+            run_pattern(&src, &model, &a)
+        }
         Command::Phases(a) => {
             let (src, model) = load(&a.cfg)?;
             check_threads(a.threads)?;
@@ -486,14 +528,10 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
     }
 }
 
-fn run_phases(
-    src: &ConfigSource,
-    model: &Model,
-    grid: &Grid,
-    a: &PhasesArgs,
-) -> Result<Outcome, Failure> {
-    let channel = match &a.channel {
-        None => 0,
+/// The index of the channel named by `--channel` (default: the first).
+fn channel_index(model: &Model, name: Option<&String>) -> Result<usize, Failure> {
+    match name {
+        None => Ok(0),
         Some(n) => model
             .channels
             .iter()
@@ -508,8 +546,157 @@ fn run_phases(
                         .collect::<Vec<_>>()
                         .join(", ")
                 ))
-            })?,
+            }),
+    }
+}
+
+/// Parses `--wavevectors "qx,qy;qx,qy"` lists into structures named custom1, custom2, ...
+fn user_structures(lists: &[String]) -> Result<Vec<Structure>, Failure> {
+    let mut out = Vec::new();
+    for (i, l) in lists.iter().enumerate() {
+        let mut qs = Vec::new();
+        for part in l.split(';').map(str::trim).filter(|p| !p.is_empty()) {
+            let nums: Vec<&str> = part.split(',').map(str::trim).collect();
+            let parsed: Option<Vec<f64>> = nums.iter().map(|x| x.parse::<f64>().ok()).collect();
+            match parsed.as_deref() {
+                Some([x, y]) if x.is_finite() && y.is_finite() && x.hypot(*y) <= 1e3 => {
+                    qs.push([*x, *y])
+                }
+                _ => {
+                    return Err(Failure::Input(format!(
+                        "--wavevectors {l}: `{part}` is not a wavevector qx,qy in 1/nm (finite, |q| <= 1000/nm)"
+                    )))
+                }
+            }
+        }
+        if qs.is_empty() || qs.len() > 12 {
+            return Err(Failure::Input(format!(
+                "--wavevectors {l}: give 1 to 12 wavevectors as \"qx,qy;qx,qy;...\" in 1/nm"
+            )));
+        }
+        if qs.iter().any(|q| q[0].hypot(q[1]) == 0.0) {
+            return Err(Failure::Input(format!(
+                "--wavevectors {l}: a wavevector is zero (the uniform state is always compared)"
+            )));
+        }
+        out.push(Structure {
+            name: format!("custom{}", i + 1),
+            wavevectors: qs,
+        });
+    }
+    Ok(out)
+}
+
+fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outcome, Failure> {
+    if model.channels.is_empty() {
+        return Err(Failure::Input(format!(
+            "{}: the configuration has no [[channel]]: nothing to compute",
+            src.origin
+        )));
+    }
+    let channel = channel_index(model, a.channel.as_ref())?;
+    if !(a.temperature.is_finite() && a.temperature > 0.0 && a.temperature <= 1e4) {
+        return Err(Failure::Input(format!(
+            "--temperature {}: must lie in (0, 10000] K (the quartic coefficients need T > 0)",
+            a.temperature
+        )));
+    }
+    if !(a.fov.is_finite() && a.fov > 0.0 && a.fov <= 1e4) {
+        return Err(Failure::Input(format!(
+            "--fov {}: must lie in (0, 10000] nm",
+            a.fov
+        )));
+    }
+    let ch = &model.channels[channel];
+    let path = match &a.along {
+        Some(p) => p.clone(),
+        None => format!("{}.offset", model.pockets[ch.b].name),
     };
+    // The path must name a field of the configuration.
+    let probe = Override::parse(&format!("{path}=0"))
+        .map_err(|e| Failure::Input(e.0.replace("--set", "--along")))?;
+    src.value_of(&probe)
+        .map_err(|e| Failure::Input(format!("--along {path}: {}", e.0)))?;
+    let extra = user_structures(&a.wavevectors)?;
+    std::fs::create_dir_all(&a.out).map_err(|e| {
+        Failure::Input(format!(
+            "--out {}: cannot create the directory: {e}",
+            a.out.display()
+        ))
+    })?;
+    let t = nestor::units::kelvin_to_mev(a.temperature);
+    let ps = PatternSolver::default();
+    let mut problems: Vec<String> = Vec::new();
+    let (line, ranking) = match ps.line_point(src, channel, &path, t) {
+        Ok((line, at_line)) => {
+            let structures = PatternSolver::candidate_structures(&line, &extra);
+            match ps.rank(&at_line, channel, &line, &structures) {
+                Ok(r) => (Some(line), r),
+                Err(e) => {
+                    problems.push(format!("structure ranking: {e}"));
+                    (Some(line), vec![])
+                }
+            }
+        }
+        Err(NestorError::Input(e)) => return Err(Failure::Input(e.0)),
+        Err(NestorError::Numerical(e)) => {
+            problems.push(format!("line point: {e}"));
+            (None, vec![])
+        }
+    };
+    let os = OrderedSolver::default();
+    let mut candidates = single_wavevector_candidates(model, channel, t, &os)
+        .map_err(|e| Failure::Computation(e.to_string()))?;
+    if let Some(l) = &line {
+        match structure_candidates(model, channel, t, l, &ranking, &candidates) {
+            Ok(mut c) => candidates.append(&mut c),
+            Err(e) => problems.push(format!("multi-wavevector states: {e}")),
+        }
+    }
+    let chosen = lowest(&candidates);
+    let waves = density_waves(model, ch, &candidates[chosen]);
+    let unpaired =
+        nestor::reports::pattern::unpaired_correlation(&waves, &candidates[chosen], a.fov);
+    let report = PatternReport {
+        src,
+        model,
+        channel,
+        line: line.as_ref(),
+        line_failure: problems.first().cloned(),
+        structures: &ranking,
+        candidates: &candidates,
+        chosen,
+        waves: &waves,
+        fov: a.fov,
+        unpaired_correlation: unpaired,
+    };
+    let stem = format!("pattern_{}", ch.label);
+    let written = write_pattern(&report, &a.out, &stem).map_err(Failure::Input)?;
+    if a.json {
+        print_json(&pattern_json(&report));
+    } else {
+        print!("{}", pattern_text(&report));
+        for w in &written {
+            println!("wrote {}", w.display());
+        }
+    }
+    for p in &problems {
+        eprintln!("nestor: warning: {p}");
+    }
+    if problems.is_empty() {
+        Ok(Outcome::Done)
+    } else {
+        Ok(Outcome::PartlyFailed(problems.join("; ")))
+    }
+}
+
+fn run_phases(
+    src: &ConfigSource,
+    model: &Model,
+    grid: &Grid,
+    a: &PhasesArgs,
+) -> Result<Outcome, Failure> {
+    let channel = channel_index(model, a.channel.as_ref())?;
     if model.channels.is_empty() {
         return Err(Failure::Input(format!(
             "{}: the configuration has no [[channel]]",

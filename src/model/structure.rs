@@ -15,6 +15,9 @@ pub const STRUCTURE_NAMES: [&str; 6] = [
     "hexagon",
 ];
 
+/// A wavevector with the index pairs (i, j) whose difference q_i - q_j it is.
+pub type Harmonic = ([f64; 2], Vec<(usize, usize)>);
+
 /// A set of wavevectors (1/nm) with a name.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Structure {
@@ -97,10 +100,10 @@ impl Structure {
 
     /// The harmonics q_i - q_j (i != j) of the second-order intraband density, distinct, each
     /// with the pairs (i, j) that produce it.
-    pub fn difference_harmonics(&self) -> Vec<([f64; 2], Vec<(usize, usize)>)> {
+    pub fn difference_harmonics(&self) -> Vec<Harmonic> {
         let qs = &self.wavevectors;
         let tol = 1e-9 * self.q_max().max(1e-300);
-        let mut out: Vec<([f64; 2], Vec<(usize, usize)>)> = Vec::new();
+        let mut out: Vec<Harmonic> = Vec::new();
         for (i, qi) in qs.iter().enumerate() {
             for (j, qj) in qs.iter().enumerate() {
                 if i == j {

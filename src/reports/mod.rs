@@ -2,6 +2,7 @@
 
 pub mod atomic;
 pub mod figures;
+pub mod pattern;
 pub mod phases;
 pub mod scan;
 pub mod tables;

@@ -1,0 +1,357 @@
+//! Pattern reports: the structure ranking on the modulated instability line, the chosen state at
+//! the configuration as given, its density waves (JSON and text), and the figure a scanning-probe
+//! user holds against a topograph: the real-space density map beside its Fourier amplitudes.
+
+use super::figures::{write_density_plot, DensityPlot};
+use super::tables::{header, text_table};
+use crate::config::ConfigSource;
+use crate::model::{Channel, Model};
+use crate::solvers::pattern::{
+    correlation, density_map, gap_map, DensityWave, LinePoint, RankedStructure, StateCandidate,
+};
+use crate::units::mev_to_kelvin;
+use serde_json::{json, Value};
+use std::path::{Path, PathBuf};
+
+/// Everything `pattern` reports.
+pub struct PatternReport<'a> {
+    pub src: &'a ConfigSource,
+    pub model: &'a Model,
+    pub channel: usize,
+    /// None when the line point could not be reached (the reason is in `line_failure`).
+    pub line: Option<&'a LinePoint>,
+    pub line_failure: Option<String>,
+    pub structures: &'a [RankedStructure],
+    pub candidates: &'a [StateCandidate],
+    pub chosen: usize,
+    pub waves: &'a [DensityWave],
+    /// Field of view of the map, nm.
+    pub fov: f64,
+    /// Correlation of the second-order density with |Delta(r)|^2 (None without second order).
+    pub unpaired_correlation: Option<f64>,
+}
+
+fn channel<'a>(r: &PatternReport<'a>) -> &'a Channel {
+    &r.model.channels[r.channel]
+}
+
+/// The JSON report.
+pub fn pattern_json(r: &PatternReport) -> Value {
+    let ch = channel(r);
+    let ns = ch.spin_channels;
+    let mut v = header(r.src, "pattern");
+    v["channel"] = json!(ch.label);
+    v["line_point"] = match r.line {
+        Some(l) => json!({
+            "path": l.path,
+            "value": l.value,
+            "base_value": l.base_value,
+            "temperature_K": mev_to_kelvin(l.t),
+            "mismatch_meV": l.mismatch,
+            "q_star_per_nm": l.q_star,
+            "maxima_per_nm": l.maxima,
+            "isotropic": l.isotropic,
+        }),
+        None => json!({"path": null, "value": null, "failure": r.line_failure}),
+    };
+    v["structures"] = r
+        .structures
+        .iter()
+        .map(|s| {
+            json!({
+                "name": s.name,
+                "wavevectors_per_nm": s.wavevectors,
+                "quadratic_per_meV_nm2": s.alpha,
+                "on_line": s.on_line,
+                "quartic": s.quartic,
+                "quartic_error": s.quartic_error,
+                "phases_rad": s.phases,
+                "phases_matter": s.phases_matter,
+                "first_order": s.first_order,
+                "preferred": s.preferred,
+            })
+        })
+        .collect();
+    v["quartic_units"] = json!(
+        "F4/(n^2 |Delta|^4) in meV^-3 nm^-2 per spin channel, with the best relative phases; the plane wave's is beta/2"
+    );
+    v["states"] = r
+        .candidates
+        .iter()
+        .map(|c| {
+            json!({
+                "name": c.name,
+                "omega_meV_per_nm2": c.omega,
+                "omega_error": c.omega_error,
+                "components": c.components.iter().map(|(g, d)| json!({
+                    "wavevector_per_nm": g, "amplitude_meV": d.norm(), "phase_rad": d.arg()
+                })).collect::<Vec<_>>(),
+                "notes": c.notes,
+            })
+        })
+        .collect();
+    v["chosen_state"] = json!(r.candidates.get(r.chosen).map(|c| c.name.clone()));
+    v["omega_units"] = json!(format!(
+        "Omega relative to the normal state, total over {ns} spin channel(s), meV/nm^2"
+    ));
+    v["density_modulation"] = r
+        .waves
+        .iter()
+        .map(|w| {
+            json!({
+                "kind": w.kind,
+                "order": w.order,
+                "wavevector_per_nm": w.wavevector_per_nm,
+                "folded_into_first_zone": w.folded_into_first_zone,
+                "period_nm": w.period_nm,
+                "amplitude_per_nm2": w.amplitude_per_nm2,
+                "phase_rad": w.phase,
+            })
+        })
+        .collect();
+    v["unpaired_carriers"] = match r.unpaired_correlation {
+        Some(c) => json!({
+            "correlation_with_gap_squared": c,
+            "collect_where": if c < 0.0 { "|Delta(r)| is small" } else { "|Delta(r)| is large" },
+        }),
+        None => Value::Null,
+    };
+    v["field_of_view_nm"] = json!(r.fov);
+    v["warnings"] = json!(r.model.warnings);
+    v
+}
+
+fn g4(x: f64) -> String {
+    format!("{x:.5e}")
+}
+
+/// The text report.
+pub fn pattern_text(r: &PatternReport) -> String {
+    let ch = channel(r);
+    let mut s = String::new();
+    match r.line {
+        Some(l) => {
+            s += &format!(
+                "channel {}: modulated instability line at T = {:.4} K reached at {} = {:.6} (given: {:.6}); mismatch h = {:.5} meV, |q*| = {:.5}/nm\n",
+                ch.label,
+                mev_to_kelvin(l.t),
+                l.path,
+                l.value,
+                l.base_value,
+                l.mismatch,
+                l.q_star
+            );
+            if l.q_star == 0.0 {
+                s += "the instability at this temperature is uniform (q* = 0): no modulated structure to rank\n";
+            } else if !l.isotropic {
+                s += &format!(
+                    "symmetry-equivalent maxima of chi at |q*|: {}\n",
+                    l.maxima
+                        .iter()
+                        .map(|q| format!("({:.5}, {:.5})", q[0], q[1]))
+                        .collect::<Vec<_>>()
+                        .join(" ")
+                );
+            }
+        }
+        None => {
+            s += &format!(
+                "channel {}: the modulated instability line could not be reached: {}\n",
+                ch.label,
+                r.line_failure.as_deref().unwrap_or("unknown reason")
+            );
+        }
+    }
+    if !r.structures.is_empty() {
+        let rows: Vec<Vec<String>> = r
+            .structures
+            .iter()
+            .map(|x| {
+                vec![
+                    format!("{}{}", if x.preferred { "* " } else { "" }, x.name),
+                    format!("{}", x.wavevectors.len()),
+                    g4(x.quartic),
+                    format!("{:.1e}", x.quartic_error),
+                    if x.on_line {
+                        "shared".into()
+                    } else {
+                        format!(
+                            "own ({})",
+                            x.alpha
+                                .iter()
+                                .map(|a| format!("{a:.2e}"))
+                                .collect::<Vec<_>>()
+                                .join(", ")
+                        )
+                    },
+                    if x.phases_matter {
+                        x.phases
+                            .iter()
+                            .map(|p| format!("{:.0}", p.to_degrees()))
+                            .collect::<Vec<_>>()
+                            .join(" ")
+                    } else {
+                        "free".into()
+                    },
+                    if x.first_order {
+                        "first order: higher orders needed".into()
+                    } else {
+                        String::new()
+                    },
+                ]
+            })
+            .collect();
+        s += &text_table(
+            &[
+                "structure",
+                "n",
+                "F4/(n^2 D^4)",
+                "error",
+                "quadratic term",
+                "phases (deg)",
+                "",
+            ],
+            &rows,
+        );
+        s += "* = preferred (smallest positive quartic coefficient at equal quadratic term); F4 in meV^-3 nm^-2 per spin channel.\n";
+    }
+    s += "\nstates at the configuration as given:\n";
+    let rows: Vec<Vec<String>> = r
+        .candidates
+        .iter()
+        .enumerate()
+        .map(|(i, c)| {
+            vec![
+                format!("{}{}", if i == r.chosen { "* " } else { "" }, c.name),
+                g4(c.omega),
+                c.components
+                    .iter()
+                    .take(c.first_harmonics.max(1))
+                    .map(|(_, d)| format!("{:.5}", d.norm()))
+                    .collect::<Vec<_>>()
+                    .join(" "),
+                c.notes.join("; "),
+            ]
+        })
+        .collect();
+    s += &text_table(
+        &["state", "Omega (meV/nm^2)", "|Delta_j| (meV)", "notes"],
+        &rows,
+    );
+    if !r.waves.is_empty() {
+        s += "\ndensity modulation of the chosen state:\n";
+        let rows: Vec<Vec<String>> = r
+            .waves
+            .iter()
+            .map(|w| {
+                vec![
+                    w.kind.to_string(),
+                    format!("{}", w.order),
+                    format!(
+                        "({:.5}, {:.5})",
+                        w.wavevector_per_nm[0], w.wavevector_per_nm[1]
+                    ),
+                    w.period_nm
+                        .map(|p| format!("{p:.4}"))
+                        .unwrap_or_else(|| "uniform".into()),
+                    g4(w.amplitude_per_nm2),
+                ]
+            })
+            .collect();
+        s += &text_table(
+            &[
+                "kind",
+                "order",
+                "P (1/nm)",
+                "period (nm)",
+                "amplitude (1/nm^2)",
+            ],
+            &rows,
+        );
+    }
+    if let Some(c) = r.unpaired_correlation {
+        s += &format!(
+            "unpaired carriers collect where |Delta(r)| is {} (correlation of the second-order density with |Delta|^2: {c:.3})\n",
+            if c < 0.0 { "small" } else { "large" }
+        );
+    }
+    s
+}
+
+/// Samples per side of the density map: eight per shortest period, between 128 and 1024.
+pub fn map_resolution(waves: &[DensityWave], fov: f64) -> usize {
+    let kmax = waves
+        .iter()
+        .map(|w| w.wavevector_per_nm[0].hypot(w.wavevector_per_nm[1]))
+        .fold(0.0, f64::max);
+    ((8.0 * fov * kmax / (2.0 * std::f64::consts::PI)).ceil() as usize).clamp(128, 1024)
+}
+
+/// Writes `<stem>.json`, `<stem>.png` and `<stem>.svg` (the map of the first wave's kind) into
+/// `out`; returns the paths.
+pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<PathBuf>, String> {
+    let mut written = Vec::new();
+    let json_path = out.join(format!("{stem}.json"));
+    let text = serde_json::to_string_pretty(&pattern_json(r)).unwrap_or_default();
+    super::atomic::write_atomic(&json_path, text.as_bytes())
+        .map_err(|e| format!("cannot write {}: {e}", json_path.display()))?;
+    written.push(json_path);
+    let Some(first) = r.waves.first() else {
+        return Ok(written);
+    };
+    let kind = first.kind;
+    let n = map_resolution(r.waves, r.fov);
+    let density = density_map(r.waves, kind, r.fov, n);
+    let mut peaks = Vec::new();
+    for (i, w) in r.waves.iter().filter(|w| w.kind == kind).enumerate() {
+        let p = w.wavevector_per_nm;
+        let label = if w.order == 1 {
+            format!("P{}", i + 1)
+        } else {
+            "q_i-q_j".to_string()
+        };
+        peaks.push((p[0], p[1], w.amplitude_per_nm2, label.clone()));
+        peaks.push((-p[0], -p[1], w.amplitude_per_nm2, String::new()));
+    }
+    let ch = channel(r);
+    let state = r
+        .candidates
+        .get(r.chosen)
+        .map(|c| c.name.clone())
+        .unwrap_or_default();
+    let t = r.line.map(|l| mev_to_kelvin(l.t)).unwrap_or(f64::NAN);
+    let plot = DensityPlot {
+        title: format!(
+            "{kind} density modulation, channel {} ({state}), T = {t:.3} K",
+            ch.label
+        ),
+        fov_nm: r.fov,
+        n,
+        density,
+        colorbar_label: format!("{kind} density modulation (1/nm^2)"),
+        peaks,
+        k_extent: 0.0,
+    };
+    let stem_path = out.join(stem);
+    write_density_plot(&plot, &stem_path).map_err(|e| e.to_string())?;
+    written.push(stem_path.with_extension("png"));
+    written.push(stem_path.with_extension("svg"));
+    Ok(written)
+}
+
+/// Correlation of the second-order density waves with |Delta(r)|^2 over the field of view
+/// (negative: the unpaired carriers collect where the gap is small).
+pub fn unpaired_correlation(
+    waves: &[DensityWave],
+    state: &StateCandidate,
+    fov: f64,
+) -> Option<f64> {
+    let second: Vec<DensityWave> = waves.iter().filter(|w| w.order == 2).cloned().collect();
+    if second.is_empty() {
+        return None;
+    }
+    let n = 96;
+    let d = density_map(&second, "charge", fov, n);
+    let g = gap_map(state, fov, n);
+    Some(correlation(&d, &g))
+}
