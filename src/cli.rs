@@ -159,6 +159,10 @@ pub struct PhasesArgs {
     /// instead of the chemical potential: uniform and normal states, with coexistence regions.
     #[arg(long)]
     pub fixed_density: bool,
+    /// Points of the modulated instability line at which the multi-wavevector structures are
+    /// ranked and the preferred one's name is marked (0: none).
+    #[arg(long, default_value_t = 3, value_name = "N")]
+    pub structure_marks: usize,
     /// Output directory.
     #[arg(long, default_value = "nestor-out")]
     pub out: PathBuf,
@@ -511,6 +515,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 channel: Some("XG".into()),
                 uniform_only: true,
                 fixed_density: false,
+                structure_marks: 3,
                 out: a.out.clone(),
                 threads: a.threads,
             };
@@ -753,7 +758,27 @@ fn run_phases(
         threads: a.threads,
         progress: std::io::stderr().is_terminal(),
     };
-    let d = phase_diagram(src, model, grid, &opts, &tc, &OrderedSolver::default())?;
+    let mut d = phase_diagram(src, model, grid, &opts, &tc, &OrderedSolver::default())?;
+    if !a.fixed_density && a.structure_marks > 0 {
+        nestor::sweeps::phase_map::mark_structures(
+            src,
+            model,
+            grid,
+            &mut d,
+            &PatternSolver::default(),
+            a.structure_marks,
+            a.threads,
+        );
+        for m in &d.structure_marks {
+            if let Some(f) = &m.failure {
+                eprintln!(
+                    "nestor: warning: structure ranking at {} = {}: {f}",
+                    grid.axes[0].path(),
+                    m.value
+                );
+            }
+        }
+    }
     let stem = format!("phases_{}", model.channels[channel].label);
     let written = nestor::reports::phases::write_phases(src, model, grid, &d, &a.out, &stem)
         .map_err(Failure::Input)?;

@@ -160,6 +160,11 @@ pub fn write_phases(
     v["tricritical"] = special(&d.tricritical);
     v["lifshitz"] = special(&d.lifshitz);
     v["special_point_failures"] = json!(d.special_point_failures);
+    v["structure_marks"] = d
+        .structure_marks
+        .iter()
+        .map(|m| json!({"value": m.value, "temperature_K": mev_to_kelvin(m.t), "preferred": m.preferred, "wavevectors": m.wavevectors, "first_order": m.first_order, "failure": m.failure}))
+        .collect();
     v["note"] = json!("uniform_instability is the line g chi(0, T) = 1 (second_order where beta > 0); the normal state's spinodal is that line, the uniform state's spinodal is where its minimum disappears; omega totals over spin channels");
     v["columns"] = Value::Array(
         d.columns
@@ -330,7 +335,17 @@ pub fn write_phases(
         series,
         bands,
         markers,
-        labels: vec![],
+        // The preferred structure where a multi-wavevector state wins on the modulated line.
+        labels: d
+            .structure_marks
+            .iter()
+            .filter(|m| m.wavevectors >= 2)
+            .filter_map(|m| {
+                m.preferred
+                    .as_ref()
+                    .map(|n| (n.clone(), m.value, mev_to_kelvin(m.t)))
+            })
+            .collect(),
     };
     let fig = out.join(stem);
     write_region_plot(&plot, &fig).map_err(|e| e.to_string())?;

@@ -174,30 +174,44 @@ impl PatternSolver {
                 r?.x
             };
         let model = model_with(base, &pinned, path, value)?;
+        let (q, _) = self.tc.max_over_q(&model, &model.channels[channel], t)?;
+        let line = self.line_point_at(&model, channel, path, value, v0, t, q)?;
+        Ok((line, model))
+    }
+
+    /// The line point of `model` (already on the line at temperature t, with the most unstable
+    /// wavevector q): the channel's mismatch and the symmetry-equivalent maxima of chi.
+    #[allow(clippy::too_many_arguments)]
+    pub fn line_point_at(
+        &self,
+        model: &Model,
+        channel: usize,
+        path: &str,
+        value: f64,
+        base_value: f64,
+        t: f64,
+        q: [f64; 2],
+    ) -> Result<LinePoint, NumericalError> {
         let ch = &model.channels[channel];
-        let (q, _) = self.tc.max_over_q(&model, ch, t)?;
         let q_star = q[0].hypot(q[1]);
-        let isotropic = Shell::for_channel(&model, ch, [0.0, 0.0])?.isotropic;
+        let isotropic = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
         let maxima = if q_star == 0.0 {
             vec![]
         } else if isotropic {
             vec![q]
         } else {
-            self.maxima(&model, ch, q, t)?
+            self.maxima(model, ch, q, t)?
         };
-        Ok((
-            LinePoint {
-                path: path.to_string(),
-                value,
-                base_value: v0,
-                t,
-                mismatch: ch.mismatch,
-                q_star,
-                maxima,
-                isotropic,
-            },
-            model,
-        ))
+        Ok(LinePoint {
+            path: path.to_string(),
+            value,
+            base_value,
+            t,
+            mismatch: ch.mismatch,
+            q_star,
+            maxima,
+            isotropic,
+        })
     }
 
     /// The symmetry-equivalent maxima of chi over the direction of q at |q| = |q_best|: every

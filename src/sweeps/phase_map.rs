@@ -74,6 +74,101 @@ pub struct PhaseDiagram {
     pub lifshitz: Option<SpecialPoint>,
     /// Special-point searches that failed (so that a missing point is not read as "none").
     pub special_point_failures: Vec<String>,
+    /// The preferred structure at points of the modulated instability line (filled by
+    /// [`mark_structures`]).
+    pub structure_marks: Vec<StructureMark>,
+}
+
+/// The structure ranking at one point of the modulated instability line.
+#[derive(Debug, Clone, serde::Serialize)]
+pub struct StructureMark {
+    pub value: f64,
+    /// meV.
+    pub t: f64,
+    /// The preferred structure's name (None: no positive quartic coefficient, or failed).
+    pub preferred: Option<String>,
+    /// Its number of wavevectors.
+    pub wavevectors: usize,
+    /// Names of structures with a negative quartic coefficient (first order there).
+    pub first_order: Vec<String>,
+    pub failure: Option<String>,
+}
+
+/// Ranks the structures at up to `count` points spread along the modulated instability line of
+/// `d` (columns where q* != 0), in parallel; the marks land in `d.structure_marks`.
+pub fn mark_structures(
+    src: &ConfigSource,
+    model: &Model,
+    grid: &Grid,
+    d: &mut PhaseDiagram,
+    ps: &crate::solvers::pattern::PatternSolver,
+    count: usize,
+    threads: Option<usize>,
+) {
+    let _ = model;
+    let on_line: Vec<(usize, f64, f64, [f64; 2])> = d
+        .columns
+        .iter()
+        .enumerate()
+        .filter_map(|(i, c)| c.as_ref().ok().map(|c| (i, c)))
+        .filter(|(_, c)| c.t_modulated > 0.0 && c.q_star != [0.0, 0.0])
+        .map(|(i, c)| (i, c.value, c.t_modulated, c.q_star))
+        .collect();
+    if on_line.is_empty() || count == 0 {
+        return;
+    }
+    let picks: Vec<(usize, f64, f64, [f64; 2])> = if on_line.len() <= count {
+        on_line
+    } else {
+        (0..count)
+            .map(|k| on_line[(k * (on_line.len() - 1) + (count - 1) / 2) / (count - 1).max(1)])
+            .collect()
+    };
+    let pinned = src
+        .build(None)
+        .map(|m| m.pinned_couplings())
+        .unwrap_or_default();
+    let path = grid.axes[0].path();
+    let channel = d.channel;
+    let marks = par_map(picks.len(), threads, false, |k| {
+        let (i, value, t, q) = picks[k];
+        let fail = |e: String| StructureMark {
+            value,
+            t,
+            preferred: None,
+            wavevectors: 0,
+            first_order: vec![],
+            failure: Some(e),
+        };
+        let m = match model_at(src, &pinned, grid, i) {
+            Ok(m) => m,
+            Err(e) => return fail(e.0),
+        };
+        let line = match ps.line_point_at(&m, channel, &path, value, value, t, q) {
+            Ok(l) => l,
+            Err(e) => return fail(e.to_string()),
+        };
+        let structures = crate::solvers::pattern::PatternSolver::candidate_structures(&line, &[]);
+        match ps.rank(&m, channel, &line, &structures) {
+            Ok(r) => {
+                let best = r.iter().find(|s| s.preferred);
+                StructureMark {
+                    value,
+                    t,
+                    preferred: best.map(|b| b.name.clone()),
+                    wavevectors: best.map(|b| b.wavevectors.len()).unwrap_or(0),
+                    first_order: r
+                        .iter()
+                        .filter(|s| s.on_line && s.first_order)
+                        .map(|s| s.name.clone())
+                        .collect(),
+                    failure: None,
+                }
+            }
+            Err(e) => fail(e.to_string()),
+        }
+    });
+    d.structure_marks = marks;
 }
 
 /// Options of the phase-diagram computation.
@@ -422,5 +517,6 @@ pub fn phase_diagram(
         tricritical,
         lifshitz,
         special_point_failures,
+        structure_marks: vec![],
     })
 }
