@@ -1,0 +1,189 @@
+//! Multi-wavevector structures with the real dispersions: the four-insertion loop, the line point
+//! reached by varying a parameter, the symmetry-equivalent maxima of an anisotropic channel, and
+//! the ranking.
+//!
+//! Reference model as in reference_ordered.rs: equal-mass circular pockets, cutoff/E_F = 0.05,
+//! lambda = 0.25, so that the weak-coupling results of physics.md section 8 apply to about 1e-3.
+
+mod common;
+
+use common::{model, nested_pair};
+use nestor::kernels::grand_potential::quartic_loop;
+use nestor::kernels::quartic::quadruple_loop;
+use nestor::kernels::{Accuracy, Shell};
+use nestor::solvers::pattern::PatternSolver;
+use nestor::solvers::tc_channel::{channel_tc, Method};
+use nestor::solvers::TcSolver;
+
+const LAMBDA: f64 = 0.25;
+const CUTOFF: f64 = 5.0;
+
+fn tc0() -> f64 {
+    1.133_865_9 * CUTOFF * (-1.0 / LAMBDA).exp()
+}
+
+/// One wavevector: the four-insertion loop 2 B(q, q, q, q) (divided differences of f over four
+/// energies around the loop) equals the plane-wave quartic coefficient beta of the ordered-state
+/// code, which integrates the closed-form second derivative of Omega in Delta^2 instead
+/// (identity). Relative 1e-6: both integrals are converged to about 1e-7.
+#[test]
+fn loop_of_one_wavevector_is_the_plane_wave_beta() {
+    let t0 = tc0();
+    let acc = Accuracy::default();
+    for (h, t, q) in [
+        (0.0, 0.5, 0.0),
+        (1.1, 0.4, 0.0005),
+        (1.3, 0.3, 0.001),
+        (-0.9, 0.6, 0.0007),
+    ] {
+        let (_, m) = nested_pair(LAMBDA, CUTOFF, 100.0, h * t0);
+        let ch = &m.channels[0];
+        let qv = [q * 0.6, q * 0.8];
+        let b = quadruple_loop(&m, ch, [qv, qv, qv, qv], t * t0, &acc).unwrap();
+        let shell = Shell::for_channel(&m, ch, qv).unwrap();
+        let beta = quartic_loop(&shell, t * t0, &acc).unwrap().value;
+        assert!(
+            (2.0 * b.value.re / beta - 1.0).abs() < 1e-6,
+            "h {h} t {t} q {q}: 2B = {} vs beta = {beta}",
+            2.0 * b.value.re
+        );
+        assert!(b.value.im.abs() < 1e-12 * beta.abs());
+    }
+}
+
+/// The line point reached by varying the hole pocket's offset at T = 0.2 Tc0 lies on the
+/// modulated instability line: h = 1.3519 Tc0 and v q*/2 = 1.5023 Tc0 (physics.md section 8,
+/// computed from the weak-coupling equation with mpmath; band curvature shifts q* by about 1e-3
+/// relative at cutoff/E_F = 0.05). Tolerances 1e-3 in h, 3e-3 in q*.
+#[test]
+fn line_point_reproduces_the_modulated_line() {
+    let t0 = tc0();
+    let (src, _) = nested_pair(LAMBDA, CUTOFF, 100.0, 1.0 * t0);
+    let ps = PatternSolver::default();
+    let (line, at) = ps.line_point(&src, 0, "h.offset", 0.2 * t0).unwrap();
+    assert!(
+        (line.mismatch / t0 - 1.3519).abs() < 1e-3,
+        "h = {}",
+        line.mismatch / t0
+    );
+    // v = hbar^2 kF / m at E_F = 100 meV, m = 0.2.
+    let v = 2.0 * 38.099_821_2 / 0.2 * (100.0f64 / (38.099_821_2 / 0.2)).sqrt();
+    let q = v * line.q_star / 2.0 / t0;
+    assert!((q / 1.5023 - 1.0).abs() < 3e-3, "v q*/2 = {q} Tc0");
+    // The line: the most unstable g chi is one there.
+    let ch = &at.channels[0];
+    let (_, gchi) = TcSolver::default().max_over_q(&at, ch, 0.2 * t0).unwrap();
+    assert!((gchi - 1.0).abs() < 1e-7, "g chi = {gchi}");
+    assert!(line.isotropic && line.maxima.len() == 1);
+    // Starting from the other side of the line gives the same point.
+    let (src2, _) = nested_pair(LAMBDA, CUTOFF, 100.0, 1.6 * t0);
+    let (line2, _) = ps.line_point(&src2, 0, "h.offset", 0.2 * t0).unwrap();
+    assert!((line2.mismatch - line.mismatch).abs() < 1e-6 * t0);
+}
+
+/// An elliptical electron pocket (masses 0.1998 and 0.2002, axes along x and y) paired with a
+/// circular hole pocket: chi(q) is even in q and mirror-symmetric in x and y, so its maxima come
+/// in symmetry-related sets of equal chi. The structures built from them share the quadratic
+/// term; the others are reported with their own, larger quadratic term and never preferred
+/// (physics.md section 5; common practice).
+#[test]
+fn anisotropic_structures_share_a_quadratic_term_only_on_the_maxima() {
+    let text = r#"
+[[pocket]]
+name = "e"
+kind = "electron"
+center = [0.0, 0.0]
+mass = [0.1998, 0.2002]
+offset = -99.85
+
+[[pocket]]
+name = "h"
+kind = "hole"
+center = [0.0, 0.0]
+mass = 0.2
+offset = 100.15
+
+[[channel]]
+name = "eh"
+pockets = ["e", "h"]
+lambda = 0.3
+cutoff = 5.0
+"#;
+    let src = nestor::config::ConfigSource::from_text("test", text).unwrap();
+    let m = model(text);
+    let tc = nestor::solvers::tc::nested_tc(&m.channels[0]).unwrap();
+    let ps = PatternSolver::default();
+    let (line, at) = ps.line_point(&src, 0, "h.offset", 0.3 * tc).unwrap();
+    assert!(!line.isotropic);
+    assert!(line.q_star > 0.0, "q* = {}", line.q_star);
+    // chi(q) = chi(-q): the maxima come at least in opposite pairs.
+    assert!(line.maxima.len() >= 2 && line.maxima.len() % 2 == 0);
+    let q1 = line.maxima[0];
+    assert!(line
+        .maxima
+        .iter()
+        .any(|p| (p[0] + q1[0]).hypot(p[1] + q1[1]) < 1e-6 * line.q_star));
+    let structures = PatternSolver::candidate_structures(&line, &[]);
+    let ranked = ps.rank(&at, 0, &line, &structures).unwrap();
+    for r in &ranked {
+        let max_alpha = r.alpha.iter().fold(0.0f64, |a, b| a.max(b.abs()));
+        if r.on_line {
+            // On the line the quadratic term vanishes to the root tolerance.
+            assert!(
+                max_alpha < 1e-6 / at.channels[0].g,
+                "{}: {:?}",
+                r.name,
+                r.alpha
+            );
+        } else {
+            assert!(r.alpha.iter().any(|&a| a > 1e-5 / at.channels[0].g));
+            assert!(!r.preferred, "{} preferred off the line", r.name);
+        }
+    }
+    let names: Vec<&str> = ranked.iter().map(|r| r.name.as_str()).collect();
+    assert!(names.contains(&"plane") && names.contains(&"stripe"));
+    assert!(ranked
+        .iter()
+        .find(|r| r.name == "stripe")
+        .map(|r| r.on_line)
+        .unwrap());
+    assert_eq!(ranked.iter().filter(|r| r.preferred).count(), 1);
+}
+
+/// The demo surface's channels XG and YG are related by its fourfold rotation: equal uniform and
+/// modulated Tc, with q* turned by 90 degrees, at the given configuration and nearer the
+/// modulated side (symmetry; relative 1e-7 in Tc, 1e-3 in |q*|, the maximum in q being flat).
+#[test]
+fn symmetry_related_channels_have_equal_tc() {
+    let src = nestor::config::ConfigSource::from_text(
+        "demo",
+        include_str!("../configs/demo_surface.toml"),
+    )
+    .unwrap();
+    let s = TcSolver::default();
+    for offset in [188.0, 184.6] {
+        let o = nestor::config::Override::parse(&format!("G.offset={offset}")).unwrap();
+        let m = src.with_overrides(&[o]).unwrap().build(None).unwrap();
+        let x = channel_tc(&m, &m.channels[0], &s, Method::Exact).unwrap();
+        let y = channel_tc(&m, &m.channels[1], &s, Method::Exact).unwrap();
+        assert!(
+            (x.uniform.tc - y.uniform.tc).abs() <= 1e-7 * x.uniform.tc.max(y.uniform.tc),
+            "{} vs {}",
+            x.uniform.tc,
+            y.uniform.tc
+        );
+        let (mx, my) = (&x.modulated, &y.modulated);
+        assert!(
+            mx.tc.tc > 0.0,
+            "no modulated instability at G.offset = {offset}"
+        );
+        assert!((mx.tc.tc / my.tc.tc - 1.0).abs() < 1e-7);
+        let (nx, ny) = (mx.q[0].hypot(mx.q[1]), my.q[0].hypot(my.q[1]));
+        assert!((nx - ny).abs() <= 1e-3 * nx.max(1e-12), "{nx} vs {ny}");
+        if nx > 0.0 {
+            // q*_Y is q*_X turned by +-90 degrees (up to the sign of q, chi being even).
+            let dot = (mx.q[0] * my.q[0] + mx.q[1] * my.q[1]).abs() / (nx * ny);
+            assert!(dot < 1e-3, "q*_X {:?} q*_Y {:?}", mx.q, my.q);
+        }
+    }
+}
