@@ -16,6 +16,7 @@ use crate::kernels::{Accuracy, Shell};
 use crate::model::structure::{Structure, STRUCTURE_NAMES};
 use crate::model::{Channel, Model};
 use crate::solvers::optimize::brent_max;
+use crate::solvers::relative_phases::best_phases;
 use crate::solvers::roots::brent_root;
 use crate::solvers::tc::{nested_tc, TcSolver};
 use std::f64::consts::PI;
@@ -408,20 +409,6 @@ pub struct RankedStructure {
 /// The named structures, for messages.
 pub fn structure_names() -> String {
     STRUCTURE_NAMES.join(", ")
-}
-
-// TEMPORARY until relative_phases lands: zero phases.
-struct PhaseChoice {
-    phases: Vec<f64>,
-    quartic: f64,
-    free: bool,
-}
-fn best_phases(n: usize, _q: &[[usize; 4]], v: &[f64]) -> PhaseChoice {
-    PhaseChoice {
-        phases: vec![0.0; n],
-        quartic: v.iter().sum(),
-        free: true,
-    }
 }
 
 /// One candidate state at the configuration as given.
