@@ -652,8 +652,8 @@ fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Out
     let os = OrderedSolver::default();
     let mut candidates = single_wavevector_candidates(model, channel, t, &os)
         .map_err(|e| Failure::Computation(e.to_string()))?;
-    if let Some(l) = &line {
-        match structure_candidates(model, channel, t, l, &ranking, &candidates) {
+    if line.is_some() {
+        match structure_candidates(model, channel, t, &ranking, &candidates) {
             Ok(mut c) => candidates.append(&mut c),
             Err(e) => problems.push(format!("multi-wavevector states: {e}")),
         }

@@ -109,16 +109,31 @@ pub fn pattern_json(r: &PatternReport) -> Value {
             })
         })
         .collect();
-    v["unpaired_carriers"] = match r.unpaired_correlation {
-        Some(c) => json!({
-            "correlation_with_gap_squared": c,
-            "collect_where": if c < 0.0 { "|Delta(r)| is small" } else { "|Delta(r)| is large" },
+    v["unpaired_carriers"] = match unpaired(r) {
+        Some((c, carriers, small)) => json!({
+            "charge_density_correlation_with_gap_squared": c,
+            "carriers": carriers,
+            "collect_where": if small { "|Delta(r)| is small" } else { "|Delta(r)| is large" },
         }),
         None => Value::Null,
     };
     v["field_of_view_nm"] = json!(r.fov);
     v["warnings"] = json!(r.model.warnings);
     v
+}
+
+/// The correlation of the second-order charge (electron) density with |Delta(r)|^2, which carriers
+/// are unpaired (holes for h > 0: the hole pocket is larger), and whether they collect where the
+/// gap is small (for holes the unpaired density is minus the electron density).
+fn unpaired(r: &PatternReport) -> Option<(f64, &'static str, bool)> {
+    let c = r.unpaired_correlation?;
+    let holes = channel(r).mismatch > 0.0;
+    let unpaired_corr = if holes { -c } else { c };
+    Some((
+        c,
+        if holes { "holes" } else { "electrons" },
+        unpaired_corr < 0.0,
+    ))
 }
 
 fn g4(x: f64) -> String {
@@ -269,10 +284,10 @@ pub fn pattern_text(r: &PatternReport) -> String {
             &rows,
         );
     }
-    if let Some(c) = r.unpaired_correlation {
+    if let Some((c, carriers, small)) = unpaired(r) {
         s += &format!(
-            "unpaired carriers collect where |Delta(r)| is {} (correlation of the second-order density with |Delta|^2: {c:.3})\n",
-            if c < 0.0 { "small" } else { "large" }
+            "the unpaired {carriers} collect where |Delta(r)| is {} (correlation of the second-order charge density with |Delta|^2: {c:.3})\n",
+            if small { "small" } else { "large" }
         );
     }
     s
