@@ -873,3 +873,63 @@ fn check_json_has_the_keys() {
         assert!(num(&c["mismatch_meV"], "mismatch").is_finite());
     }
 }
+
+// `pattern`: bad temperatures, fields of view, paths, wavevector lists and channels are input
+// errors naming the option and the allowed range, and nothing is written.
+#[test]
+fn bad_pattern_options() {
+    let out_dir = TempDir::new("pattern");
+    let o = out_dir.path();
+    let cases: Vec<(Vec<&str>, Vec<&str>)> = vec![
+        (
+            vec!["--temperature", "0"],
+            vec!["--temperature 0", "(0, 10000] K"],
+        ),
+        (
+            vec!["--temperature=-1"],
+            vec!["--temperature -1", "(0, 10000] K"],
+        ),
+        (
+            vec!["--temperature", "nan"],
+            vec!["--temperature", "(0, 10000] K"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--fov", "0"],
+            vec!["--fov 0", "(0, 10000] nm"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--fov=-3"],
+            vec!["--fov -3", "(0, 10000] nm"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--along", "x.offset"],
+            vec!["--along x.offset", "no pocket"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--along", "offset"],
+            vec!["--along"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--wavevectors", "1,2,3"],
+            vec!["--wavevectors 1,2,3", "qx,qy"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--wavevectors", "0.01,0;0,0"],
+            vec!["--wavevectors", "zero"],
+        ),
+        (
+            vec!["--temperature", "0.5", "--channel", "zz"],
+            vec!["--channel zz", "no such channel"],
+        ),
+    ];
+    for (extra, fragments) in cases {
+        let mut args = vec!["pattern", "{cfg}", "--out", o];
+        args.extend(extra.iter().copied());
+        let out = run_with(&nested(), &args);
+        assert_bad(&format!("pattern {extra:?}"), &out, &fragments);
+        assert!(
+            !Path::new(o).exists(),
+            "pattern {extra:?}: the output directory was created"
+        );
+    }
+}
