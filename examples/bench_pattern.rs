@@ -47,7 +47,9 @@ fn main() {
             .iter()
             .min_by(|a, b| a.1.total_cmp(&b.1))
             .map(|x| x.0.clone());
-        println!("  weak-coupling ranking of six structures {t_weak:.2?} (preferred {weak_best:?})");
+        println!(
+            "  weak-coupling ranking of six structures {t_weak:.2?} (preferred {weak_best:?})"
+        );
     }
     // Nonlinear solves inside the modulated region: h = 1.15 Tc0 at T = 0.3 Tc0.
     let t = 0.3 * tc0;

@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Regenerates every committed figure: the demo (configs/demo_surface.toml, embedded) and one map
-# of the weak-coupling reference pair (configs/reference/nested_parabolic.toml).
+# and a phase diagram of the weak-coupling reference pair (configs/reference/nested_parabolic.toml),
+# and a pattern of the heavy-pocket pair (configs/reference/heavy_pockets.toml).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 cargo build --release
@@ -13,3 +14,7 @@ cp figures/map/scan_tc_eh.svg figures/map_tc_eh.svg
   --vary h.offset=100.0:100.4:41 --temperatures 41 --out figures/map
 cp figures/map/phases_eh.png figures/phases_eh.png
 cp figures/map/phases_eh.svg figures/phases_eh.svg
+./target/release/nestor pattern configs/reference/heavy_pockets.toml \
+  --set h.offset=6.05 --temperature 0.4 --fov 250 --out figures/map
+cp figures/map/pattern_eh.png figures/pattern_eh_heavy.png
+cp figures/map/pattern_eh.svg figures/pattern_eh_heavy.svg

@@ -13,7 +13,7 @@ use crate::config::{ConfigSource, Override, PinnedCouplings};
 use crate::error::{NestorError, NumericalError};
 use crate::kernels::quartic::structure_loops;
 use crate::kernels::{Accuracy, Shell};
-use crate::model::structure::{Structure, STRUCTURE_NAMES};
+use crate::model::structure::Structure;
 use crate::model::{Channel, Model};
 use crate::solvers::optimize::brent_max;
 use crate::solvers::relative_phases::best_phases;
@@ -132,19 +132,27 @@ impl PatternSolver {
             bracket = Some((v0, v0));
         }
         const MAX_STEPS: usize = 60;
+        // The last value and margin on each side (None once a side cannot be built).
+        let mut last: [Option<(f64, f64)>; 2] = [Some((v0, f0)), Some((v0, f0))];
         'outer: for k in 1..=MAX_STEPS {
-            for side in [1.0, -1.0] {
-                let prev = v0 + side * step * (k - 1) as f64;
+            if bracket.is_some() {
+                break;
+            }
+            for (i, side) in [1.0, -1.0].into_iter().enumerate() {
+                let Some((prev, fp)) = last[i] else {
+                    continue;
+                };
                 let v = v0 + side * step * k as f64;
-                let (fp, fv) = (if k == 1 { Ok(f0) } else { margin(prev) }, margin(v));
                 // A value where the model cannot be built ends that side of the search.
-                let (Ok(fp), Ok(fv)) = (fp, fv) else {
+                let Ok(fv) = margin(v) else {
+                    last[i] = None;
                     continue;
                 };
                 if (fp > 0.0) != (fv > 0.0) {
                     bracket = Some((prev, v));
                     break 'outer;
                 }
+                last[i] = Some((v, fv));
             }
         }
         let (lo, hi) = bracket.ok_or_else(|| NumericalError::NotBracketed {
@@ -404,11 +412,6 @@ pub struct RankedStructure {
     pub first_order: bool,
     /// The smallest positive coefficient among the structures on the line.
     pub preferred: bool,
-}
-
-/// The named structures, for messages.
-pub fn structure_names() -> String {
-    STRUCTURE_NAMES.join(", ")
 }
 
 /// One candidate state at the configuration as given.

@@ -98,14 +98,12 @@ pub struct StructureMark {
 /// `d` (columns where q* != 0), in parallel; the marks land in `d.structure_marks`.
 pub fn mark_structures(
     src: &ConfigSource,
-    model: &Model,
     grid: &Grid,
     d: &mut PhaseDiagram,
     ps: &crate::solvers::pattern::PatternSolver,
     count: usize,
     threads: Option<usize>,
 ) {
-    let _ = model;
     let on_line: Vec<(usize, f64, f64, [f64; 2])> = d
         .columns
         .iter()
