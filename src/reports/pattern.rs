@@ -311,19 +311,25 @@ pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<Pa
     super::atomic::write_atomic(&json_path, text.as_bytes())
         .map_err(|e| format!("cannot write {}: {e}", json_path.display()))?;
     written.push(json_path);
-    let Some(first) = r.waves.first() else {
+    // The map shows the modulated waves (P != 0) of the first such wave's kind.
+    let Some(first) = r.waves.iter().find(|w| w.period_nm.is_some()) else {
         return Ok(written);
     };
     let kind = first.kind;
     let n = map_resolution(r.waves, r.fov);
     let density = density_map(r.waves, kind, r.fov, n);
     let mut peaks = Vec::new();
-    for (i, w) in r.waves.iter().filter(|w| w.kind == kind).enumerate() {
+    for (i, w) in r
+        .waves
+        .iter()
+        .filter(|w| w.kind == kind && w.period_nm.is_some())
+        .enumerate()
+    {
         let p = w.wavevector_per_nm;
         let label = if w.order == 1 {
             format!("P{}", i + 1)
         } else {
-            "q_i-q_j".to_string()
+            "q_i - q_j".to_string()
         };
         peaks.push((p[0], p[1], w.amplitude_per_nm2, label.clone()));
         peaks.push((-p[0], -p[1], w.amplitude_per_nm2, String::new()));

@@ -516,7 +516,8 @@ pub fn density_waves(model: &Model, ch: &Channel, state: &StateCandidate) -> Vec
 }
 
 /// The density modulation sum_w A_w cos(P_w.r + phase_w) of `waves` of one kind (per nm^2) on an
-/// n x n grid over [-fov/2, fov/2]^2 (nm), row-major with y outer.
+/// n x n grid over [-fov/2, fov/2]^2 (nm), row-major with y outer. Waves at P = 0 (a uniform
+/// interband coherence, no modulation) are left out.
 pub fn density_map(waves: &[DensityWave], kind: &str, fov: f64, n: usize) -> Vec<f64> {
     let mut out = vec![0.0; n * n];
     for iy in 0..n {
@@ -525,7 +526,7 @@ pub fn density_map(waves: &[DensityWave], kind: &str, fov: f64, n: usize) -> Vec
             let x = -0.5 * fov + fov * (ix as f64 + 0.5) / n as f64;
             out[iy * n + ix] = waves
                 .iter()
-                .filter(|w| w.kind == kind)
+                .filter(|w| w.kind == kind && w.period_nm.is_some())
                 .map(|w| {
                     w.amplitude_per_nm2
                         * (w.wavevector_per_nm[0] * x + w.wavevector_per_nm[1] * y + w.phase).cos()
