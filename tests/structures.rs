@@ -283,3 +283,53 @@ fn loop_quartic_equals_the_small_amplitude_nonlinear_omega() {
         );
     }
 }
+
+/// With helical cones of opposite windings (W = sin^2 of the angle, physics.md section 2) the
+/// four form factors around the one-wavevector loop multiply to W^2, so 2 B(q, q, q, q) again
+/// equals the plane-wave beta (identity; relative 1e-6). The four-vertex product of a
+/// multi-wavevector loop is complex in general; summed over a structure's quadruples it is real.
+#[test]
+fn helical_loops_carry_the_form_factors() {
+    use nestor::kernels::quartic::structure_loops;
+    use nestor::model::structure::Structure;
+    let text = r#"
+[[pocket]]
+name = "a"
+kind = "dirac"
+center = [0.0, 0.0]
+velocity = 300.0
+offset = -100.0
+spin = { winding = 1, phase = 0.0 }
+
+[[pocket]]
+name = "b"
+kind = "dirac"
+center = [0.0, 0.0]
+velocity = 300.0
+offset = 100.3
+spin = { winding = -1, phase = 0.0 }
+
+[[channel]]
+pockets = ["a", "b"]
+lambda = 0.3
+cutoff = 5.0
+"#;
+    let m = model(text);
+    let ch = &m.channels[0];
+    let t = 0.5 * nestor::solvers::tc::nested_tc(ch).unwrap();
+    let acc = Accuracy::default();
+    let q = [0.0006, 0.0002];
+    let b = quadruple_loop(&m, ch, [q, q, q, q], t, &acc).unwrap();
+    let shell = Shell::for_channel(&m, ch, q).unwrap();
+    let beta = quartic_loop(&shell, t, &acc).unwrap().value;
+    assert!(
+        (2.0 * b.value.re / beta - 1.0).abs() < 1e-6,
+        "2B = {} vs beta = {beta}",
+        2.0 * b.value.re
+    );
+    let s = Structure::named("square", [0.0006, 0.0]).unwrap();
+    let loops = structure_loops(&m, ch, &s, t, &acc).unwrap();
+    let total: num_complex::Complex64 = loops.iter().map(|l| l.1.value).sum();
+    let scale: f64 = loops.iter().map(|l| l.1.value.norm()).sum();
+    assert!(total.im.abs() < 1e-6 * scale, "{total} (scale {scale})");
+}

@@ -10,7 +10,7 @@ use crate::kernels::grand_potential::phi;
 use crate::kernels::integrate::{Accuracy, Estimate};
 use crate::kernels::quad::PanelRule;
 use crate::kernels::shell::Shell;
-use crate::model::{helical_matrix_element, Model, Spin};
+use crate::model::{band_matrix_element, Model};
 use nalgebra::DMatrix;
 use num_complex::Complex64;
 use std::f64::consts::PI;
@@ -98,30 +98,7 @@ pub fn omega_uniform_channels(
                     if xi.abs() >= c.cutoff || deltas[ci] == 0.0 {
                         continue;
                     }
-                    let m = match (pa.spin, pb.spin) {
-                        (
-                            Spin::Helical {
-                                winding: wa,
-                                phase: fa,
-                            },
-                            Spin::Helical {
-                                winding: wb,
-                                phase: fb,
-                            },
-                        ) => {
-                            let (ua, ub) = (pa.spinor_direction(k), pb.spinor_direction(k));
-                            let ta = wa as f64 * ua.arg() + fa;
-                            let tb = wb as f64 * ub.arg() + fb;
-                            helical_matrix_element(
-                                pa.carrier_sign(),
-                                ta,
-                                pb.carrier_sign(),
-                                tb,
-                                c.spin_matrix,
-                            )
-                        }
-                        _ => Complex64::new(1.0, 0.0),
-                    };
+                    let m = band_matrix_element(pa, pb, c.spin_matrix, k, k);
                     let (ia, ib) = (idx(c.a), idx(c.b));
                     h[(ia, ib)] += m * deltas[ci];
                     h[(ib, ia)] += (m * deltas[ci]).conj();

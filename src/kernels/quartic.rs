@@ -22,7 +22,7 @@ use crate::kernels::integrate::Accuracy;
 use crate::kernels::quad::{graded_breakpoints, Feature, PanelRule};
 use crate::kernels::shell::Shell;
 use crate::model::structure::Structure;
-use crate::model::{helical_matrix_element, Channel, Model, Pocket, Spin};
+use crate::model::{band_matrix_element, Channel, Model, Spin};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -120,34 +120,6 @@ fn dd_contour(x: &[f64], t: f64) -> f64 {
         sum += f * z / den;
     }
     sum.re / CONTOUR_POINTS as f64
-}
-
-/// The band form factor M_ab = <chi_a(p_a)| M |chi_b(p_b)> of a vertex (1 unless both pockets
-/// are helical).
-pub fn vertex_element(
-    ch: &Channel,
-    a: &Pocket,
-    b: &Pocket,
-    pa: [f64; 2],
-    pb: [f64; 2],
-) -> Complex64 {
-    match (a.spin, b.spin) {
-        (
-            Spin::Helical {
-                winding: wa,
-                phase: fa,
-            },
-            Spin::Helical {
-                winding: wb,
-                phase: fb,
-            },
-        ) => {
-            let ta = wa as f64 * a.spinor_direction(pa).arg() + fa;
-            let tb = wb as f64 * b.spinor_direction(pb).arg() + fb;
-            helical_matrix_element(a.carrier_sign(), ta, b.carrier_sign(), tb, ch.spin_matrix)
-        }
-        _ => Complex64::new(1.0, 0.0),
-    }
 }
 
 /// One loop coefficient B with its error estimate (absolute, from ray doubling).
@@ -289,10 +261,8 @@ pub fn quadruple_loop(
                 }
                 let mut v = Complex64::new(0.5 * fermi_divided_difference(&e, t), 0.0);
                 if helical {
-                    v *= vertex_element(ch, a, b, ka, k)
-                        * vertex_element(ch, a, b, ka, kb2).conj()
-                        * vertex_element(ch, a, b, ka4, kb2)
-                        * vertex_element(ch, a, b, ka4, k).conj();
+                    let m = |pa, pb| band_matrix_element(a, b, ch.spin_matrix, pa, pb);
+                    v *= m(ka, k) * m(ka, kb2).conj() * m(ka4, kb2) * m(ka4, k).conj();
                 }
                 sum += v * (r * wr);
             });

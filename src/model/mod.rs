@@ -257,6 +257,35 @@ pub fn spin_channels(a: &Pocket, b: &Pocket) -> f64 {
     }
 }
 
+/// The band form factor M_ab = <chi_a(p_a)| M |chi_b(p_b)> between pocket a at momentum p_a and
+/// pocket b at p_b (each from its own centre): the helical matrix element when both pockets are
+/// helical, otherwise 1 (a degenerate pocket's spin is summed into W = 1, physics.md section 2).
+pub fn band_matrix_element(
+    a: &Pocket,
+    b: &Pocket,
+    m: SpinMatrix,
+    pa: [f64; 2],
+    pb: [f64; 2],
+) -> Complex64 {
+    match (a.spin, b.spin) {
+        (
+            Spin::Helical {
+                winding: wa,
+                phase: fa,
+            },
+            Spin::Helical {
+                winding: wb,
+                phase: fb,
+            },
+        ) => {
+            let ta = wa as f64 * a.spinor_direction(pa).arg() + fa;
+            let tb = wb as f64 * b.spinor_direction(pb).arg() + fb;
+            helical_matrix_element(a.carrier_sign(), ta, b.carrier_sign(), tb, m)
+        }
+        _ => Complex64::new(1.0, 0.0),
+    }
+}
+
 /// The matrix element M_ab = <chi_a(theta_a)| M |chi_b(theta_b)> for two helical spinors,
 /// chi = (1, s e^{i(w theta + phi)})/sqrt(2). Used to check the closed forms and by the N x N
 /// mean field.
