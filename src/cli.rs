@@ -191,6 +191,10 @@ pub struct PatternArgs {
     /// A further structure to rank, as wavevectors in 1/nm: "qx,qy;qx,qy;..." (repeatable).
     #[arg(long, value_name = "QX,QY;...")]
     pub wavevectors: Vec<String>,
+    /// Solve the nonlinear state of every ranked structure on the line (default: the preferred
+    /// one and the stripe).
+    #[arg(long)]
+    pub every_structure: bool,
     /// Print JSON instead of tables.
     #[arg(long)]
     pub json: bool,
@@ -538,6 +542,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 fov: 60.0,
                 channel: Some("XG".into()),
                 wavevectors: vec![],
+                every_structure: false,
                 json: false,
                 out: a.out.clone(),
             };
@@ -673,7 +678,7 @@ fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Out
     let mut candidates = single_wavevector_candidates(model, channel, t, &os)
         .map_err(|e| Failure::Computation(e.to_string()))?;
     if line.is_some() {
-        match structure_candidates(model, channel, t, &ranking, &candidates) {
+        match structure_candidates(model, channel, t, &ranking, &candidates, a.every_structure) {
             Ok(mut c) => candidates.append(&mut c),
             Err(e) => problems.push(format!("multi-wavevector states: {e}")),
         }

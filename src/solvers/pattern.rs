@@ -633,8 +633,8 @@ pub fn lowest(candidates: &[StateCandidate]) -> usize {
 }
 
 /// The multi-wavevector candidates at the configuration as given: the nonlinear states
-/// ([`crate::solvers::pattern_state`]) of the preferred structure of the ranking and of the stripe
-/// (when they are on the line and have several wavevectors). Their wavevectors have the length of
+/// ([`crate::solvers::pattern_state`]) of the preferred structure and the stripe, or with `every`
+/// of every ranked structure on the line with several wavevectors; the preferred one first. Their wavevectors have the length of
 /// the plane-wave state's |q| at this configuration when there is one (else the line's |q*|); the
 /// start is the plane-wave gap shared over the components. The harmonic truncation is checked by
 /// solving again one order higher for two wavevectors, and by evaluating one order higher for more
@@ -645,6 +645,7 @@ pub fn structure_candidates(
     t: f64,
     ranking: &[RankedStructure],
     single: &[StateCandidate],
+    every: bool,
 ) -> Result<Vec<StateCandidate>, NumericalError> {
     use crate::solvers::pattern_state::{solve_structure, HarmonicCheck, PatternOptions};
     let ch = &model.channels[channel];
@@ -659,7 +660,9 @@ pub fn structure_candidates(
         .unwrap_or(t);
     let mut picks: Vec<&RankedStructure> = ranking
         .iter()
-        .filter(|r| r.on_line && r.wavevectors.len() >= 2 && (r.preferred || r.name == "stripe"))
+        .filter(|r| {
+            r.on_line && r.wavevectors.len() >= 2 && (every || r.preferred || r.name == "stripe")
+        })
         .collect();
     picks.sort_by_key(|r| !r.preferred);
     let mut out = Vec::new();
@@ -687,16 +690,15 @@ pub fn structure_candidates(
             },
             ..PatternOptions::default()
         };
-        // Two starts (the plane-wave gap shared over the components, and the whole gap on each):
-        // the lowest Omega among the ordered solutions is kept.
+        // Two starts (the plane-wave gap shared over the components, then the whole gap on each
+        // if the first falls to the normal state or fails).
         let mut best: Option<crate::solvers::pattern_state::PatternState> = None;
         let mut failure = None;
         for a in [start / (n as f64).sqrt(), start] {
             match solve_structure(model, channel, &qs, &r.phases, t, a, &opts) {
                 Ok(st) if !st.normal => {
-                    if best.as_ref().is_none_or(|b| st.omega < b.omega) {
-                        best = Some(st);
-                    }
+                    best = Some(st);
+                    break;
                 }
                 Ok(_) => {}
                 Err(e) => failure = Some(e),
