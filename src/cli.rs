@@ -539,7 +539,8 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 },
                 temperature: DEMO_PATTERN_T,
                 along: None,
-                fov: 60.0,
+                // 25 periods of the 0.8 nm charge-density wave.
+                fov: 20.0,
                 channel: Some("XG".into()),
                 wavevectors: vec![],
                 every_structure: false,

@@ -318,7 +318,12 @@ pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<Pa
     let kind = first.kind;
     let n = map_resolution(r.waves, r.fov);
     let density = density_map(r.waves, kind, r.fov, n);
-    let mut peaks = Vec::new();
+    let mut peaks: Vec<(f64, f64, f64, String)> = Vec::new();
+    let kmax = r
+        .waves
+        .iter()
+        .map(|w| w.wavevector_per_nm[0].hypot(w.wavevector_per_nm[1]))
+        .fold(0.0, f64::max);
     for (i, w) in r
         .waves
         .iter()
@@ -331,7 +336,12 @@ pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<Pa
         } else {
             "q_i - q_j".to_string()
         };
-        peaks.push((p[0], p[1], w.amplitude_per_nm2, label.clone()));
+        // Peaks closer than 8% of the largest wavevector to a labelled one stay unlabelled.
+        let crowded = peaks
+            .iter()
+            .any(|x| !x.3.is_empty() && (x.0 - p[0]).hypot(x.1 - p[1]) < 0.08 * kmax);
+        let label = if crowded { String::new() } else { label };
+        peaks.push((p[0], p[1], w.amplitude_per_nm2, label));
         peaks.push((-p[0], -p[1], w.amplitude_per_nm2, String::new()));
     }
     let ch = channel(r);
