@@ -690,11 +690,14 @@ pub fn structure_candidates(
             },
             ..PatternOptions::default()
         };
-        // Two starts (the plane-wave gap shared over the components, then the whole gap on each
-        // if the first falls to the normal state or fails).
+        // Delta = 0 is always a solution and lies below the ordered one, so the iteration starts
+        // from above: the T = 0 uniform gap of a constant pair density of states,
+        // cutoff/sinh(1/lambda), shared over the components; then, if that fails or falls to
+        // the normal state, from the plane-wave gap shared over them.
         let mut best: Option<crate::solvers::pattern_state::PatternState> = None;
         let mut failure = None;
-        for a in [start / (n as f64).sqrt(), start] {
+        let above = ch.cutoff / (1.0 / ch.lambda().max(1e-3)).sinh();
+        for a in [above.max(start), start].map(|a| a / (n as f64).sqrt()) {
             match solve_structure(model, channel, &qs, &r.phases, t, a, &opts) {
                 Ok(st) if !st.normal => {
                     best = Some(st);

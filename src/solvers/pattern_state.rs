@@ -263,8 +263,21 @@ fn iterate(
             Some((b, _)) if res >= *b => {}
             _ => best = Some((res, x.clone())),
         }
-        let next = acc.step(&to_real(&x), &to_real(&f));
-        x = to_complex(&next);
+        let mut next = to_complex(&acc.step(&to_real(&x), &to_real(&f)));
+        // Delta = 0 is always a fixed point: an extrapolated step may not fall towards it faster
+        // than by half per step (the plain map is taken instead, itself limited to halving), so
+        // that a state is called normal only after the map itself has shrunk it.
+        let s_next = max_abs(&next);
+        if s_next < 0.5 * size {
+            acc.reset();
+            next = y.clone();
+            let sy = max_abs(&next);
+            if sy < 0.5 * size && sy > 0.0 {
+                let k = 0.5 * size / sy;
+                next.iter_mut().for_each(|z| *z *= k);
+            }
+        }
+        x = next;
         project(&mut x, &orbits);
     }
     Err(NumericalError::NotConverged {
