@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{model, nested_pair};
+use common::nested_pair;
 use nestor::config::ConfigSource;
 use nestor::kernels::grand_potential::grand_potential;
 use nestor::kernels::multichannel::omega_uniform_channels;
@@ -27,30 +27,7 @@ fn demo() -> nestor::model::Model {
 /// Relative 1e-6: both integrate to 1e-7 on different panels.
 #[test]
 fn one_channel_reduces_to_the_closed_form() {
-    let helical = model(
-        r#"
-[[pocket]]
-name = "a"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = -100.0
-spin = { winding = 1, phase = 30.0 }
-
-[[pocket]]
-name = "b"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = 100.3
-spin = { winding = -1, phase = 0.0 }
-
-[[channel]]
-pockets = ["a", "b"]
-lambda = 0.25
-cutoff = 5.0
-"#,
-    );
+    let helical = common::opposite_cones(30.0, 100.3, 0.25);
     let (_, nested) = nested_pair(0.25, 5.0, 100.0, 0.05);
     let acc = Accuracy::default();
     for (m, delta, t) in [

@@ -48,30 +48,7 @@ fn q_star(m: &Model, t: f64, h: f64) -> f64 {
 
 /// Helical Dirac pair with opposite windings and a texture phase (complex vertex M_ab).
 fn helical_pair() -> Model {
-    model(
-        r#"
-[[pocket]]
-name = "a"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = -100.0
-spin = { winding = 1, phase = 30.0 }
-
-[[pocket]]
-name = "b"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = 100.3
-spin = { winding = -1, phase = 0.0 }
-
-[[channel]]
-pockets = ["a", "b"]
-lambda = 0.25
-cutoff = 5.0
-"#,
-    )
+    common::opposite_cones(30.0, 100.3, 0.25)
 }
 
 /// Mildly anisotropic, rotated parabolic pockets of unequal masses (no angular symmetry used;

@@ -7,7 +7,7 @@
 
 mod common;
 
-use common::{model, nested_pair, nested_pair_fixed_g};
+use common::{nested_pair, nested_pair_fixed_g};
 use nestor::kernels::grand_potential::quartic_loop;
 use nestor::kernels::{weak, Accuracy, Shell};
 use nestor::solvers::ordered::{OrderedSolver, Stability, StateKind};
@@ -246,29 +246,7 @@ fn quartic_from_loop_equals_finite_differences_and_stationarity() {
 /// relative 2e-3.
 #[test]
 fn anisotropic_gap_ratio() {
-    let text = r#"
-[[pocket]]
-name = "a"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = -100.0
-spin = { winding = 1, phase = 0.0 }
-
-[[pocket]]
-name = "b"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = 100.0
-spin = { winding = -1, phase = 0.0 }
-
-[[channel]]
-pockets = ["a", "b"]
-lambda = 0.2
-cutoff = 5.0
-"#;
-    let m = model(text);
+    let m = common::opposite_cones(0.0, 100.0, 0.2);
     let ch = &m.channels[0];
     let tc = TcSolver::default().uniform(&m, ch).unwrap().tc;
     let st = OrderedSolver::default().solve(&m, ch, 0.0, None).unwrap();

@@ -292,29 +292,7 @@ fn loop_quartic_equals_the_small_amplitude_nonlinear_omega() {
 fn helical_loops_carry_the_form_factors() {
     use nestor::kernels::quartic::structure_loops;
     use nestor::model::structure::Structure;
-    let text = r#"
-[[pocket]]
-name = "a"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = -100.0
-spin = { winding = 1, phase = 0.0 }
-
-[[pocket]]
-name = "b"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = 100.3
-spin = { winding = -1, phase = 0.0 }
-
-[[channel]]
-pockets = ["a", "b"]
-lambda = 0.3
-cutoff = 5.0
-"#;
-    let m = model(text);
+    let m = common::opposite_cones(0.0, 100.3, 0.3);
     let ch = &m.channels[0];
     let t = 0.5 * nestor::solvers::tc::nested_tc(ch).unwrap();
     let acc = Accuracy::default();

@@ -54,3 +54,33 @@ pub fn model(text: &str) -> Model {
         .build(None)
         .unwrap()
 }
+
+/// Upper and lower helical Dirac cones with opposite windings at one zone point (hbar v = 300
+/// meV nm, Dirac points at -100 meV and `offset_b`), the first with texture phase `phase_a`
+/// (degrees): W = sin^2 of the angle, a complex vertex M_ab when `phase_a` != 0.
+pub fn opposite_cones(phase_a: f64, offset_b: f64, lambda: f64) -> Model {
+    model(&format!(
+        r#"
+[[pocket]]
+name = "a"
+kind = "dirac"
+center = [0.0, 0.0]
+velocity = 300.0
+offset = -100.0
+spin = {{ winding = 1, phase = {phase_a} }}
+
+[[pocket]]
+name = "b"
+kind = "dirac"
+center = [0.0, 0.0]
+velocity = 300.0
+offset = {offset_b}
+spin = {{ winding = -1, phase = 0.0 }}
+
+[[channel]]
+pockets = ["a", "b"]
+lambda = {lambda}
+cutoff = 5.0
+"#
+    ))
+}
