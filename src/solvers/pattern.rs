@@ -690,18 +690,20 @@ pub fn structure_candidates(
             },
             ..PatternOptions::default()
         };
-        // Delta = 0 is always a solution and lies below the ordered one, so the iteration starts
-        // from above: the T = 0 uniform gap of a constant pair density of states,
-        // cutoff/sinh(1/lambda), shared over the components; then, if that fails or falls to
-        // the normal state, from the plane-wave gap shared over them.
+        // Delta = 0 is always a solution and attracts the iteration from below near the line,
+        // and more than one ordered solution of the structure's symmetry can exist, so the
+        // iteration runs from three starts shared over the components: the T = 0 uniform gap of
+        // a constant pair density of states, cutoff/sinh(1/lambda) (from above), 1.5 times and
+        // once the plane-wave gap. The lowest Omega among the ordered solutions is kept.
         let mut best: Option<crate::solvers::pattern_state::PatternState> = None;
         let mut failure = None;
         let above = ch.cutoff / (1.0 / ch.lambda().max(1e-3)).sinh();
-        for a in [above.max(start), start].map(|a| a / (n as f64).sqrt()) {
+        for a in [above.max(1.5 * start), 1.5 * start, start].map(|a| a / (n as f64).sqrt()) {
             match solve_structure(model, channel, &qs, &r.phases, t, a, &opts) {
                 Ok(st) if !st.normal => {
-                    best = Some(st);
-                    break;
+                    if best.as_ref().is_none_or(|b| st.omega < b.omega) {
+                        best = Some(st);
+                    }
                 }
                 Ok(_) => {}
                 Err(e) => failure = Some(e),
