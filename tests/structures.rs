@@ -284,19 +284,23 @@ fn loop_quartic_equals_the_small_amplitude_nonlinear_omega() {
     }
 }
 
-/// With helical cones of opposite windings (W = sin^2 of the angle, physics.md section 2) the
-/// four form factors around the one-wavevector loop multiply to W^2, so 2 B(q, q, q, q) again
-/// equals the plane-wave beta (identity; relative 1e-6). The four-vertex product of a
-/// multi-wavevector loop is complex in general; summed over a structure's quadruples it is real.
+/// With helical cones of opposite windings and a texture phase (W = sin^2 of the angle,
+/// physics.md section 2; complex vertices) the four form factors around the one-wavevector loop
+/// multiply to W^2, so 2 B(q, q, q, q) again equals the plane-wave beta (identity; relative 1e-6).
+/// For a stripe the loop sum equals the quartic term of the nonlinear Omega at small amplitude,
+/// which builds the same vertices into the windowed Hamiltonian instead (identity; relative 1e-4,
+/// as in `loop_quartic_equals_the_small_amplitude_nonlinear_omega`).
 #[test]
 fn helical_loops_carry_the_form_factors() {
+    use nestor::kernels::harmonics::HarmonicGrid;
     use nestor::kernels::quartic::structure_loops;
     use nestor::model::structure::Structure;
-    let m = common::opposite_cones(0.0, 100.3, 0.3);
+    use nestor::solvers::pattern_state::omega_at_amplitude;
+    let m = common::opposite_cones(30.0, 100.3, 0.3);
     let ch = &m.channels[0];
     let t = 0.5 * nestor::solvers::tc::nested_tc(ch).unwrap();
     let acc = Accuracy::default();
-    let q = [0.0006, 0.0002];
+    let q = [0.0002, 0.0006];
     let b = quadruple_loop(&m, ch, [q, q, q, q], t, &acc).unwrap();
     let shell = Shell::for_channel(&m, ch, q).unwrap();
     let beta = quartic_loop(&shell, t, &acc).unwrap().value;
@@ -305,11 +309,36 @@ fn helical_loops_carry_the_form_factors() {
         "2B = {} vs beta = {beta}",
         2.0 * b.value.re
     );
-    let s = Structure::named("square", [0.0006, 0.0]).unwrap();
+    let s = Structure::named("stripe", q).unwrap();
     let loops = structure_loops(&m, ch, &s, t, &acc).unwrap();
-    let total: num_complex::Complex64 = loops.iter().map(|l| l.1.value).sum();
-    let scale: f64 = loops.iter().map(|l| l.1.value.norm()).sum();
-    assert!(total.im.abs() < 1e-6 * scale, "{total} (scale {scale})");
+    let f4_loop: f64 = loops.iter().map(|l| l.1.value.re).sum();
+    let gchi = TcSolver::default().g_chi(&m, ch, q, t, &acc).unwrap();
+    let alpha = (1.0 - gchi) / ch.g;
+    let grid = HarmonicGrid {
+        rtol: 1e-7,
+        ..HarmonicGrid::default()
+    };
+    let xs = [0.1 * t, 0.2 * t, 0.3 * t].map(|a| a * a);
+    let rs = xs.map(|x| {
+        let a = x.sqrt();
+        let (om, _) =
+            omega_at_amplitude(&m, 0, &s.wavevectors, &[0.0, 0.0], a, t, 2, &grid).unwrap();
+        (om - 2.0 * alpha * a * a) / a.powi(4)
+    });
+    let mut f4_fd = 0.0;
+    for i in 0..3 {
+        let mut w = 1.0;
+        for j in 0..3 {
+            if j != i {
+                w *= xs[j] / (xs[j] - xs[i]);
+            }
+        }
+        f4_fd += w * rs[i];
+    }
+    assert!(
+        (f4_fd / f4_loop - 1.0).abs() < 1e-4,
+        "loop {f4_loop:.6e} vs nonlinear Omega {f4_fd:.6e}"
+    );
 }
 
 /// Approaching the modulated line from the ordered side, the self-consistent nonlinear state of
