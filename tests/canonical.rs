@@ -1,4 +1,4 @@
-//! Canonical mode (fixed net carrier density, physics.md section 4).
+//! Canonical mode (fixed net carrier density, the crate docs, `theory::ordered`).
 
 mod common;
 

@@ -2,7 +2,7 @@
 
 mod common;
 
-use common::model;
+use common::{model, tol};
 use nestor::config::ConfigSource;
 use nestor::kernels::susceptibility::susceptibility;
 use nestor::kernels::{Accuracy, Shell};
@@ -36,9 +36,9 @@ cutoff = 5.0
     )
 }
 
-/// Upper and lower helical cones with the same texture: W = 0 in the charge channel, so there is
-/// no instability at any g (physics.md section 2), and lambda cannot be converted (an input error
-/// asking for g).
+/// Upper and lower helical cones with the same texture: W = 0 in the charge channel, so there is no
+/// instability at any g (the crate docs, `theory::channels`), and lambda cannot be converted (an
+/// input error asking for g).
 #[test]
 fn same_texture_cones_have_no_charge_instability() {
     let m = model(&dirac_pair(1, "g = 5000.0"));
@@ -118,7 +118,7 @@ cutoff = 5.0
 fn rotated(alpha_deg: f64) -> nestor::model::Model {
     let a = alpha_deg.to_radians();
     let (cx, cy) = (1.0 * a.cos(), 1.0 * a.sin());
-    // phi -> phi + (1 - w) alpha for each helical pocket (physics.md section 1).
+    // phi -> phi + (1 - w) alpha for each helical pocket (the crate docs, `theory::pockets`).
     let text = ROTATABLE
         .replace("CAX", &format!("{cx}"))
         .replace("CAY", &format!("{cy}"))
@@ -128,8 +128,8 @@ fn rotated(alpha_deg: f64) -> nestor::model::Model {
     model(&text)
 }
 
-/// Rotating the whole configuration (centres, pocket axes, and helical phases as physics.md
-/// section 1 prescribes) leaves nu, the mismatch and both Tc unchanged and rotates q*. The
+/// Rotating the whole configuration (centres, pocket axes, and helical phases as `theory::pockets`
+/// in the crate docs prescribes) leaves nu, the mismatch and both Tc unchanged and rotates q*. The
 /// unrotated and rotated problems are integrated on different grids, so agreement tests the
 /// geometry; relative 1e-6 on Tc (the integration target), 1e-2 rad on the flat q* direction.
 #[test]
@@ -146,13 +146,13 @@ fn tc_is_invariant_under_rotating_the_configuration() {
         assert!((ch.mismatch - ch0.mismatch).abs() < 1e-8 * ch0.mismatch.abs().max(1.0));
         let u = solver.uniform(&m, ch).unwrap();
         assert!(
-            (u.tc / u0.tc - 1.0).abs() < 1e-6,
+            (u.tc / u0.tc - 1.0).abs() < tol::INTEGRATION,
             "alpha {alpha}: {} vs {}",
             u.tc,
             u0.tc
         );
         let md = solver.modulated(&m, ch, &u).unwrap();
-        assert!((md.tc.tc / m0.tc.tc - 1.0).abs() < 1e-6);
+        assert!((md.tc.tc / m0.tc.tc - 1.0).abs() < tol::INTEGRATION);
         let (q0, q) = (m0.q[0].hypot(m0.q[1]), md.q[0].hypot(md.q[1]));
         assert!((q - q0).abs() <= 1e-2 * q0.max(1e-9));
         if q0 > 0.0 {
@@ -163,9 +163,9 @@ fn tc_is_invariant_under_rotating_the_configuration() {
     }
 }
 
-/// chi(q) = chi(-q) for the dispersions here (numerics.md), and chi(q) -> chi(0) continuously as
-/// q -> 0 (the modulated susceptibility reduces to the uniform one): relative 1e-9 at the
-/// integration accuracy, and the change at small q is quadratic.
+/// chi(q) = chi(-q) for the dispersions here (see the crate docs, `theory::numerics`), and chi(q)
+/// -> chi(0) continuously as q -> 0 (the modulated susceptibility reduces to the uniform one):
+/// relative 1e-9 at the integration accuracy, and the change at small q is quadratic.
 #[test]
 fn susceptibility_is_even_in_q_and_continuous_at_zero() {
     let m = rotated(0.0);
@@ -182,17 +182,20 @@ fn susceptibility_is_even_in_q_and_continuous_at_zero() {
     };
     let q = [0.004, -0.0023];
     let (p, n) = (chi(q), chi([-q[0], -q[1]]));
-    assert!((p / n - 1.0).abs() < 1e-9);
+    assert!((p / n - 1.0).abs() < tol::TIGHT_INTEGRATION);
     let c0 = chi([0.0, 0.0]);
     let d1 = chi([1e-4, 0.0]) - c0;
     let d2 = chi([2e-4, 0.0]) - c0;
     assert!((d2 / d1 - 4.0).abs() < 0.05, "ratio {}", d2 / d1);
 }
 
-/// The shell integral against an independent integrator: for the equal-mass reference pair the
-/// pair density of states is constant, so chi(0, T) = nu int_{-Lambda}^{Lambda} dxi
-/// [f(h - xi) - f(h + xi)]/(2 xi), integrated here by the quadrature crate's double-exponential
-/// rule from the plain Fermi functions (relative 1e-9: both integrate to far better than that).
+/// The shell integral against an independent integrator: for the equal-mass reference pair
+/// (m = 0.2 m_e) xi_k = hbar^2 k^2/(2m) + const, so the pair density of states is constant,
+/// nu = m/(2 pi hbar^2) = (m/m_e) / (4 pi hbar^2/(2 m_e)) with hbar^2/(2 m_e) = 38.0998212 meV nm^2
+/// (CODATA 2018), and chi(0, T) = nu int_{-Lambda}^{Lambda} dxi [f(h - xi) - f(h + xi)]/(2 xi),
+/// integrated here by the quadrature crate's double-exponential rule from the plain Fermi
+/// functions (relative 1e-9: both integrate to far better than that). The code's own nu is
+/// checked against the hand formula first.
 #[test]
 fn susceptibility_agrees_with_an_independent_integrator() {
     let (_, m) = common::nested_pair(0.25, 5.0, 100.0, 0.07);
@@ -222,9 +225,15 @@ fn susceptibility_agrees_with_an_independent_integrator() {
         assert!(out.error_estimate < 1e-10);
         total += out.integral;
     }
-    let reference = ch.nu * total;
+    let nu_hand = 0.2 / (4.0 * std::f64::consts::PI * 38.099_821_2);
     assert!(
-        (ours / reference - 1.0).abs() < 1e-9,
+        (ch.nu / nu_hand - 1.0).abs() < tol::TIGHT_INTEGRATION,
+        "nu {} vs m/(2 pi hbar^2) = {nu_hand}",
+        ch.nu
+    );
+    let reference = nu_hand * total;
+    assert!(
+        (ours / reference - 1.0).abs() < tol::TIGHT_INTEGRATION,
         "{ours} vs {reference}"
     );
 }

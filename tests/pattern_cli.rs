@@ -1,6 +1,6 @@
 //! `nestor pattern` end to end on the reference pair inside the modulated region: exit code 0,
 //! the JSON keys the interface promises, the files written, and the physics the report states
-//! (physics.md sections 5 and 6).
+//! (the crate docs, `theory::landau` and `theory::patterns`).
 
 use std::process::Command;
 
@@ -26,8 +26,8 @@ fn pattern_reports_structures_states_and_density_waves() {
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON on stdout");
     let lp = &v["line_point"];
     assert_eq!(lp["path"], "h.offset");
-    // The line lies beyond the given offset at this temperature (physics.md section 8: h on the
-    // modulated line exceeds the given h = 0.125 meV at T = 0.29 Tc0).
+    // The line lies beyond the given offset at this temperature (the crate docs, `theory::checks`:
+    // h on the modulated line exceeds the given h = 0.125 meV at T = 0.29 Tc0).
     assert!(lp["value"].as_f64().unwrap() > 100.25);
     let structures = v["structures"].as_array().unwrap();
     let names: Vec<&str> = structures
@@ -58,7 +58,9 @@ fn pattern_reports_structures_states_and_density_waves() {
         .collect();
     assert_eq!(preferred, ["stripe"]);
     // Below the line the nonlinear stripe beats the plane wave (Larkin and Ovchinnikov 1964 for
-    // the same comparison in 3D; from memory).
+    // the same comparison in 3D, citation not checked against the paper). This is the nonlinear
+    // route; the weak-coupling loops (tests/structures_weak.rs) and the full-dispersion loops
+    // (tests/structures.rs) reach the same order at quartic order.
     assert_eq!(v["chosen_state"], "stripe");
     let waves = v["density_modulation"].as_array().unwrap();
     let order = |o: i64| waves.iter().filter(|w| w["order"] == o).count();
@@ -71,7 +73,7 @@ fn pattern_reports_structures_states_and_density_waves() {
         assert!(w["amplitude_per_nm2"].as_f64().unwrap() > 0.0);
     }
     // h > 0: the hole pocket is larger; its unpaired holes collect where |Delta(r)| is small
-    // (physics.md section 6).
+    // (the crate docs, `theory::patterns`).
     assert_eq!(v["unpaired_carriers"]["carriers"], "holes");
     assert_eq!(
         v["unpaired_carriers"]["collect_where"],

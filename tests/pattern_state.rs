@@ -10,7 +10,7 @@
 
 mod common;
 
-use common::{model, nested_pair, nested_pair_fixed_g};
+use common::{model, nested_pair, nested_pair_fixed_g, tol};
 use nestor::kernels::grand_potential::grand_potential;
 use nestor::kernels::harmonics::{
     omega_components, omega_multi, omega_on_grid, ray_symmetry, HarmonicGrid, HarmonicSet,
@@ -38,8 +38,8 @@ fn pair_at(h: f64) -> Model {
     nested_pair_fixed_g(&base, CUTOFF, E_F, h * tc0()).1
 }
 
-/// The weak-coupling optimal wavevector at (t, h) in Tc0 units (physics.md section 3), in 1/nm
-/// along x for the reference pair.
+/// The weak-coupling optimal wavevector at (t, h) in Tc0 units (the crate docs,
+/// `theory::susceptibility`), in 1/nm along x for the reference pair.
 fn q_star(m: &Model, t: f64, h: f64) -> f64 {
     let v = m.pockets[0].fermi_velocity_along([1.0, 0.0]);
     let (_, q) = weak::modulated_point(t, h).unwrap();
@@ -134,7 +134,8 @@ fn one_wavevector_and_uniform_reduce_to_the_two_by_two_omega() {
 
 /// The self-consistent one-wavevector state is the plane-wave solution of OrderedSolver at the
 /// same q (identity): the gap and Omega agree to relative 1e-6, and the coherence at q is
-/// -Delta/g (physics.md section 6). The truncation check is exact (the window closes).
+/// -Delta/g (the crate docs, `theory::patterns`). The truncation check is exact (the window
+/// closes).
 #[test]
 fn self_consistent_plane_wave_matches_the_ordered_solver() {
     let m = pair_at(1.15);
@@ -158,9 +159,9 @@ fn self_consistent_plane_wave_matches_the_ordered_solver() {
     )
     .unwrap();
     let d = st.components[0].1.norm();
-    assert!((d / best.delta - 1.0).abs() < 1e-6, "{d} vs {}", best.delta);
+    assert!((d / best.delta - 1.0).abs() < tol::INTEGRATION, "{d} vs {}", best.delta);
     assert!(
-        (st.omega / best.omega - 1.0).abs() < 1e-6,
+        (st.omega / best.omega - 1.0).abs() < tol::INTEGRATION,
         "{} vs {}",
         st.omega,
         best.omega
@@ -336,11 +337,11 @@ fn independent_of_the_thread_count() {
 
 /// The self-consistent stripe (q, -q) on the modulated side is ordered and stationary:
 /// dOmega/dlambda along Delta -> lambda Delta at lambda = 1 (central difference, step 1e-3) is
-/// below 1e-3 of its value at lambda = 0.7, and the coherence is -Delta_G/g at every first
-/// harmonic (physics.md section 6; relative 1e-6). The intraband components at +-2q are complex
-/// conjugates (hermiticity; identity). Harmonic and grid changes are small and decrease when
-/// refined: Omega changes from order 2 to 3 more than from 3 to 4, and the doubled grid changes
-/// more than the quadrupled one.
+/// below 1e-3 of its value at lambda = 0.7, and the coherence is -Delta_G/g at every first harmonic
+/// (the crate docs, `theory::patterns`; relative 1e-6). The intraband components at +-2q are
+/// complex conjugates (hermiticity; identity). Harmonic and grid changes are small and decrease
+/// when refined: Omega changes from order 2 to 3 more than from 3 to 4, and the doubled grid
+/// changes more than the quadrupled one.
 #[test]
 fn stripe_is_stationary_and_converges() {
     let m = pair_at(1.15);
@@ -428,11 +429,11 @@ fn stripe_is_stationary_and_converges() {
     assert!(s3.grid_change < 1e-5 * s3.omega.abs());
 }
 
-/// The intraband density components are second order in the amplitude (physics.md section 6):
-/// at fixed equal first-harmonic amplitudes A and A/2 (no self-consistency) on a square, n_s(Q)
-/// at Q = q_i - q_j scales as A^2 (ratio 4, up to relative corrections of order (A/(v q))^2,
-/// tolerance 10%), and omega_at_amplitude returns the same Omega as the kernel with an error
-/// estimate below its target.
+/// The intraband density components are second order in the amplitude (the crate docs,
+/// `theory::patterns`): at fixed equal first-harmonic amplitudes A and A/2 (no self-consistency) on
+/// a square, n_s(Q) at Q = q_i - q_j scales as A^2 (ratio 4, up to relative corrections of order
+/// (A/(v q))^2, tolerance 10%), and omega_at_amplitude returns the same Omega as the kernel with an
+/// error estimate below its target.
 #[test]
 fn intraband_components_are_second_order() {
     let m = pair_at(1.15);
@@ -474,11 +475,11 @@ fn intraband_components_are_second_order() {
     assert!(one.omega.is_finite() && one.error.is_some());
 }
 
-/// Unpaired carriers collect where |Delta(r)| is small (physics.md section 6): on a stripe at
-/// fixed amplitude, the |Delta|^2 component at 2q is Delta_q conj(Delta_-q) > 0; with the hole
-/// pocket larger (h > 0) the unpaired carriers are holes of b, so the b-electron density n_b(2q)
-/// follows |Delta|^2 (positive); with the electron pocket larger (h < 0) the a-electrons collect
-/// at the nodes, n_a(2q) < 0.
+/// Unpaired carriers collect where |Delta(r)| is small (the crate docs, `theory::patterns`): on a
+/// stripe at fixed amplitude, the |Delta|^2 component at 2q is Delta_q conj(Delta_-q) > 0; with the
+/// hole pocket larger (h > 0) the unpaired carriers are holes of b, so the b-electron density
+/// n_b(2q) follows |Delta|^2 (positive); with the electron pocket larger (h < 0) the a-electrons
+/// collect at the nodes, n_a(2q) < 0.
 #[test]
 fn unpaired_carriers_collect_where_the_gap_is_small() {
     let t = 0.3 * tc0();

@@ -1,13 +1,13 @@
-//! The ordered state against published weak-coupling results (physics.md section 8) and its
-//! identities: self-consistent gaps, Omega, first-order jumps, the Sarma branch, the tricritical
-//! point and the quartic coefficient.
+//! The ordered state against published weak-coupling results (the crate docs, `theory::checks`) and
+//! its identities: self-consistent gaps, Omega, first-order jumps, the Sarma branch, the
+//! tricritical point and the quartic coefficient.
 //!
 //! Reference model as in reference_tc.rs: equal-mass circular pockets, constant pair density of
 //! states nu, h_k = h, cutoff/E_F = 0.05, lambda = 0.25 (Delta0/cutoff = 1/sinh 4 = 0.0366).
 
 mod common;
 
-use common::{nested_pair, nested_pair_fixed_g};
+use common::{nested_pair, nested_pair_fixed_g, tol};
 use nestor::kernels::grand_potential::quartic_loop;
 use nestor::kernels::{weak, Accuracy, Shell};
 use nestor::solvers::ordered::{OrderedSolver, Stability, StateKind};
@@ -34,7 +34,7 @@ fn zero_temperature_gap_is_cutoff_over_sinh() {
         assert_eq!(c.state, StateKind::Uniform);
         let exact = CUTOFF / (1.0 / lambda).sinh();
         assert!(
-            (c.delta / exact - 1.0).abs() < 1e-6,
+            (c.delta / exact - 1.0).abs() < tol::INTEGRATION,
             "{} vs {exact}",
             c.delta
         );
@@ -136,11 +136,11 @@ fn sarma_branch_is_found_and_unstable() {
     }
 }
 
-/// Tricritical point: beta = 0 on the uniform line at T = 0.5615 Tc0, h = 1.0728 Tc0 =
-/// 0.6082 Delta0 (Sarma 1963; Saint-James, Sarma, Thomas, Type II Superconductivity (1969)), and
-/// the loop beta equals the weak-coupling closed form nu (-Re psi''(1/2 + i h/(2 pi T)))/(16 pi^2 T^2)
-/// (physics.md section 5) less the analytic tail beyond the cutoff. 2e-3 absolute in T/Tc0 (the
-/// finite cutoff moves the point slightly); 1e-6 relative on beta.
+/// Tricritical point: beta = 0 on the uniform line at T = 0.5615 Tc0, h = 1.0728 Tc0 = 0.6082
+/// Delta0 (Sarma 1963; Saint-James, Sarma, Thomas, Type II Superconductivity (1969)), and the loop
+/// beta equals the weak-coupling closed form nu (-Re psi''(1/2 + i h/(2 pi T)))/(16 pi^2 T^2) (the
+/// crate docs, `theory::landau`) less the analytic tail beyond the cutoff. 2e-3 absolute in T/Tc0
+/// (the finite cutoff moves the point slightly); 1e-6 relative on beta.
 #[test]
 fn tricritical_point_and_quartic_closed_form() {
     let (_, m0) = nested_pair(LAMBDA, CUTOFF, 100.0, 0.0);
@@ -173,7 +173,7 @@ fn tricritical_point_and_quartic_closed_form() {
     // (exact up to exp(-cutoff/T) terms).
     let closed = ch.nu * weak::quartic_weak(0.8, 0.5) / (t0 * t0) - ch.nu / (4.0 * CUTOFF * CUTOFF);
     assert!(
-        (loop_beta / closed - 1.0).abs() < 1e-6,
+        (loop_beta / closed - 1.0).abs() < tol::INTEGRATION,
         "{loop_beta} vs {closed}"
     );
 }
@@ -242,18 +242,44 @@ fn quartic_from_loop_equals_finite_differences_and_stationarity() {
 
 /// Opposite windings, W = sin^2(theta): the T = 0 gap maximum over Tc is
 /// pi e^-gamma exp(-<W ln W>/(2<W>)) = 2.1397 (the d-wave weak-coupling ratio; Won and Maki,
-/// PRB 49, 1397 (1994), citation from memory). Finite cutoff shifts it by O((Delta/cutoff)^2);
+/// PRB 49, 1397 (1994); the citation is not checked against the paper). The number is checked by
+/// a second route first: the two angular averages are integrated with the quadrature crate's
+/// double-exponential rule and compared with their closed forms <W> = 1/2 and
+/// <W ln W> = 1/2 - ln 2 (from the integral of sin^2 x ln sin x over a quarter period,
+/// (pi/8)(1 - 2 ln 2)). Finite cutoff shifts the computed ratio by O((Delta/cutoff)^2);
 /// relative 2e-3.
 #[test]
 fn anisotropic_gap_ratio() {
+    use std::f64::consts::PI;
+    let average = |f: &dyn Fn(f64) -> f64| {
+        // Over a quarter period (the averages have period pi and mirror symmetry), split at the
+        // logarithmic end point theta = 0 where W ln W vanishes smoothly.
+        let out = quadrature::double_exponential::integrate(f, 0.0, PI / 2.0, 1e-14);
+        out.integral / (PI / 2.0)
+    };
+    let w_mean = average(&|x: f64| x.sin().powi(2));
+    let w_log_w = average(&|x: f64| {
+        let w = x.sin().powi(2);
+        if w > 0.0 {
+            w * w.ln()
+        } else {
+            0.0
+        }
+    });
+    assert!((w_mean - 0.5).abs() < tol::ANGULAR_AVERAGE);
+    assert!((w_log_w - (0.5 - 2f64.ln())).abs() < tol::ANGULAR_AVERAGE);
+    let euler_gamma = 0.577_215_664_901_532_9_f64;
+    let ratio = PI * (-euler_gamma).exp() * (-w_log_w / (2.0 * w_mean)).exp();
+    assert!((ratio - 2.1397).abs() < 1e-4, "formula gives {ratio}");
+
     let m = common::opposite_cones(0.0, 100.0, 0.2);
     let ch = &m.channels[0];
     let tc = TcSolver::default().uniform(&m, ch).unwrap().tc;
     let st = OrderedSolver::default().solve(&m, ch, 0.0, None).unwrap();
     let d = st.chosen().delta;
     assert!(
-        (d / tc / 2.1397 - 1.0).abs() < 2e-3,
-        "Delta_max/Tc = {}",
+        (d / tc / ratio - 1.0).abs() < 2e-3,
+        "Delta_max/Tc = {} vs {ratio}",
         d / tc
     );
 }

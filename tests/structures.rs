@@ -3,11 +3,12 @@
 //! the ranking.
 //!
 //! Reference model as in reference_ordered.rs: equal-mass circular pockets, cutoff/E_F = 0.05,
-//! lambda = 0.25, so that the weak-coupling results of physics.md section 8 apply to about 1e-3.
+//! lambda = 0.25, so that the weak-coupling results in the crate docs, `theory::checks` apply to
+//! about 1e-3.
 
 mod common;
 
-use common::{model, nested_pair};
+use common::{model, nested_pair, tol};
 use nestor::kernels::grand_potential::quartic_loop;
 use nestor::kernels::quartic::quadruple_loop;
 use nestor::kernels::{Accuracy, Shell};
@@ -43,7 +44,7 @@ fn loop_of_one_wavevector_is_the_plane_wave_beta() {
         let shell = Shell::for_channel(&m, ch, qv).unwrap();
         let beta = quartic_loop(&shell, t * t0, &acc).unwrap().value;
         assert!(
-            (2.0 * b.value.re / beta - 1.0).abs() < 1e-6,
+            (2.0 * b.value.re / beta - 1.0).abs() < tol::INTEGRATION,
             "h {h} t {t} q {q}: 2B = {} vs beta = {beta}",
             2.0 * b.value.re
         );
@@ -51,8 +52,8 @@ fn loop_of_one_wavevector_is_the_plane_wave_beta() {
     }
 }
 
-/// The line point reached by varying the hole pocket's offset at T = 0.2 Tc0 lies on the
-/// modulated instability line: h = 1.3519 Tc0 and v q*/2 = 1.5023 Tc0 (physics.md section 8,
+/// The line point reached by varying the hole pocket's offset at T = 0.2 Tc0 lies on the modulated
+/// instability line: h = 1.3519 Tc0 and v q*/2 = 1.5023 Tc0 (the crate docs, `theory::checks`,
 /// computed from the weak-coupling equation with mpmath; band curvature shifts q* by about 1e-3
 /// relative at cutoff/E_F = 0.05). Tolerances 1e-3 in h, 3e-3 in q*.
 #[test]
@@ -85,7 +86,7 @@ fn line_point_reproduces_the_modulated_line() {
 /// circular hole pocket: chi(q) is even in q and mirror-symmetric in x and y, so its maxima come
 /// in symmetry-related sets of equal chi. The structures built from them share the quadratic
 /// term; the others are reported with their own, larger quadratic term and never preferred
-/// (physics.md section 5; common practice).
+/// (the crate docs, `theory::landau`; common practice).
 #[test]
 fn anisotropic_structures_share_a_quadratic_term_only_on_the_maxima() {
     let text = r#"
@@ -190,11 +191,14 @@ fn symmetry_related_channels_have_equal_tc() {
 
 /// With the real dispersions (cutoff/E_F = 0.05) the full ranking reproduces the weak-coupling
 /// sequence along the modulated line: stripe, then triangle, square and hexagon as T falls
-/// (Shimahara, J. Phys. Soc. Jpn. 67, 1872 (1998)); at t = 0.3, 0.2, 0.12 and 0.03 the weak-coupling
-/// winners have margins of 30% or more over the runner-up (tests/structures_weak.rs), far above
-/// the band-curvature corrections (about 3e-3). The line point (h, q*) comes from the
+/// (Shimahara, J. Phys. Soc. Jpn. 67, 1872 (1998)); at t = 0.3, 0.2, 0.12 and 0.03 the
+/// weak-coupling winners have margins of 30% or more over the runner-up (tests/structures_weak.rs),
+/// far above the band-curvature corrections (about 3e-3). The line point (h, q*) comes from the
 /// weak-coupling line; the standing wave beats the plane wave at every temperature (Larkin and
-/// Ovchinnikov 1964 for the same comparison in 3D; citation from memory).
+/// Ovchinnikov 1964 for the same comparison in 3D; the citation is not checked against the paper,
+/// and this full-dispersion ranking is the second route to the weak-coupling comparison of
+/// tests/structures_weak.rs: the loops here integrate divided differences of the Fermi function
+/// over the real dispersions, the weak ones sum Matsubara frequencies in closed form).
 #[test]
 fn full_ranking_follows_the_weak_coupling_sequence() {
     let t0 = tc0();
@@ -222,15 +226,14 @@ fn full_ranking_follows_the_weak_coupling_sequence() {
     }
 }
 
-/// The quartic coefficient of each structure from the four-insertion loop equals the quartic
-/// term of the full nonlinear Omega (multi-harmonic mean field, order m = 2, which is exact to
-/// fourth order in Delta) at small equal amplitudes on the line (identity, physics.md section 5):
-/// (Omega(A) - n alpha A^2)/A^4 = F4 + F6 A^2 + F8 A^4 + ..., extrapolated to A = 0 from
-/// A = 0.1, 0.2 and 0.3 T.
-/// The two routes share only the model: one integrates divided differences of f on graded
-/// panels, the other diagonalises the windowed Hamiltonian on a product grid. Relative 1e-4
-/// (they agree to 2e-5; the extrapolation leaves O(A^6/T^6); both integrals are converged
-/// to 1e-6 or better).
+/// The quartic coefficient of each structure from the four-insertion loop equals the quartic term
+/// of the full nonlinear Omega (multi-harmonic mean field, order m = 2, which is exact to fourth
+/// order in Delta) at small equal amplitudes on the line (identity, the crate docs,
+/// `theory::landau`): (Omega(A) - n alpha A^2)/A^4 = F4 + F6 A^2 + F8 A^4 + ..., extrapolated to A
+/// = 0 from A = 0.1, 0.2 and 0.3 T. The two routes share only the model: one integrates divided
+/// differences of f on graded panels, the other diagonalises the windowed Hamiltonian on a product
+/// grid. Relative 1e-4 (they agree to 2e-5; the extrapolation leaves O(A^6/T^6); both integrals are
+/// converged to 1e-6 or better).
 #[test]
 fn loop_quartic_equals_the_small_amplitude_nonlinear_omega() {
     use nestor::kernels::harmonics::HarmonicGrid;
@@ -284,8 +287,8 @@ fn loop_quartic_equals_the_small_amplitude_nonlinear_omega() {
     }
 }
 
-/// With helical cones of opposite windings and a texture phase (W = sin^2 of the angle,
-/// physics.md section 2; complex vertices) the four form factors around the one-wavevector loop
+/// With helical cones of opposite windings and a texture phase (W = sin^2 of the angle, the crate
+/// docs, `theory::channels`; complex vertices) the four form factors around the one-wavevector loop
 /// multiply to W^2, so 2 B(q, q, q, q) again equals the plane-wave beta (identity; relative 1e-6).
 /// For a stripe the loop sum equals the quartic term of the nonlinear Omega at small amplitude,
 /// which builds the same vertices into the windowed Hamiltonian instead (identity; relative 1e-4,
@@ -305,7 +308,7 @@ fn helical_loops_carry_the_form_factors() {
     let shell = Shell::for_channel(&m, ch, q).unwrap();
     let beta = quartic_loop(&shell, t, &acc).unwrap().value;
     assert!(
-        (2.0 * b.value.re / beta - 1.0).abs() < 1e-6,
+        (2.0 * b.value.re / beta - 1.0).abs() < tol::INTEGRATION,
         "2B = {} vs beta = {beta}",
         2.0 * b.value.re
     );
@@ -342,8 +345,8 @@ fn helical_loops_carry_the_form_factors() {
 }
 
 /// Approaching the modulated line from the ordered side, the self-consistent nonlinear state of
-/// each structure tends to the Landau minimum Omega = -alpha^2 / (4 F4/(n^2 |Delta|^4)), with
-/// alpha = 1/g - chi(q*) (physics.md section 5: the minimum of n alpha A^2 + F4 A^4 over the
+/// each structure tends to the Landau minimum Omega = -alpha^2 / (4 F4/(n^2 |Delta|^4)), with alpha
+/// = 1/g - chi(q*) (the crate docs, `theory::landau`: the minimum of n alpha A^2 + F4 A^4 over the
 /// amplitude). This is what makes the quartic ranking the ranking of Omega near the line. The
 /// deviation is linear in the distance d to the line; extrapolated linearly to d = 0 from d and d/2
 /// it is within 1e-2 for every structure (without extrapolation: 3% to 5% at d/2).

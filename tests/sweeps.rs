@@ -58,8 +58,8 @@ fn a_failed_point_is_recorded_and_the_sweep_goes_on() {
 }
 
 /// Along the mismatch at fixed g, q* leaves zero at the Lifshitz point (h = 1.0728 Tc0 in weak
-/// coupling, physics.md section 8) and grows continuously from zero beyond it: q*^2 grows about
-/// linearly in h - h_L, so q* at the first modulated points is small and increasing.
+/// coupling, the crate docs, `theory::checks`) and grows continuously from zero beyond it: q*^2
+/// grows about linearly in h - h_L, so q* at the first modulated points is small and increasing.
 #[test]
 fn q_star_leaves_zero_continuously_at_the_lifshitz_point() {
     let (src, m) = nested_pair(0.25, 5.0, 100.0, 0.0);

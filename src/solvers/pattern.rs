@@ -439,7 +439,7 @@ pub struct DensityWave {
     pub kind: &'static str,
     /// 1: interband coherence at K_a - K_b + q_j; 2: intraband at q_i - q_j.
     pub order: u8,
-    /// 1/nm, folded into the first zone when a [surface] lattice is given.
+    /// 1/nm, folded into the first zone when a `[surface]` lattice is given.
     pub wavevector_per_nm: [f64; 2],
     pub folded_into_first_zone: bool,
     /// 2 pi / |P| (None for P = 0).

@@ -1,6 +1,8 @@
 //! Shared builders of reference configurations for the integration tests.
 #![allow(dead_code)]
 
+pub mod tol;
+
 use nestor::config::{ConfigSource, PinnedCouplings};
 use nestor::model::Model;
 
