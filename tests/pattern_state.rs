@@ -159,7 +159,11 @@ fn self_consistent_plane_wave_matches_the_ordered_solver() {
     )
     .unwrap();
     let d = st.components[0].1.norm();
-    assert!((d / best.delta - 1.0).abs() < tol::INTEGRATION, "{d} vs {}", best.delta);
+    assert!(
+        (d / best.delta - 1.0).abs() < tol::INTEGRATION,
+        "{d} vs {}",
+        best.delta
+    );
     assert!(
         (st.omega / best.omega - 1.0).abs() < tol::INTEGRATION,
         "{} vs {}",

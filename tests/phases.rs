@@ -13,13 +13,13 @@ use std::process::Command;
 
 const TC0: f64 = 1.133_865_9 * 5.0 * 0.018_315_638_888_734_18; // 1.1339 cutoff e^-4
 
-/// On the weak-coupling reference pair the tricritical point (beta = 0) lies at T = 0.5615 Tc0, h =
-/// 1.0728 Tc0 (Sarma 1963; Saint-James, Sarma, Thomas 1969) and the Lifshitz point (q-curvature =
-/// 0) coincides with it (Buzdin and Kachkachi 1997, citation not checked against the paper; the
-/// coincidence is derived in the crate docs, `theory::landau`, and checked by two weak-coupling
-/// routes in tests/reference_tc.rs, which also serve as the second route here; finite cutoff/E_F
-/// separates them by ~4e-4 in T, `theory::checks`). Both are found by separate root searches. Among
-/// uniform and normal states the first-order line at low T approaches h = Delta0/sqrt(2) (Clogston
+/// On the weak-coupling reference pair the tricritical point (beta = 0) lies at T = 0.5615 Tc0,
+/// h = 1.0728 Tc0 (Sarma 1963; Saint-James, Sarma, Thomas 1969) and the Lifshitz point
+/// (q-curvature = 0) coincides with it (Buzdin and Kachkachi 1997, citation not checked against
+/// the paper; the coincidence is derived in the crate docs, `theory::landau`, and the Lifshitz
+/// point is compared here with `weak::lifshitz`, found from the angular average of the
+/// weak-coupling margin; finite cutoff/E_F separates the two points by ~4e-4 in T,
+/// `theory::checks`). Both are found by separate root searches. Among uniform and normal states the first-order line at low T approaches h = Delta0/sqrt(2) (Clogston
 /// 1962, Chandrasekhar 1962). Tolerances: 2e-3 in T/Tc0 and h/Tc0; 5e-3 relative on the Clogston
 /// field (the lowest row is at T = 0.05 Tc0, and the line is interpolated between columns).
 #[test]
@@ -181,14 +181,21 @@ fn phases_command_outputs() {
     }
     // Every line point is a number inside the scanned window: offsets 100.18..100.30 meV,
     // temperatures between 0 and Tc0 (the largest uniform Tc, at h = 0).
-    for k in ["uniform_instability", "modulated_instability", "first_order"] {
+    for k in [
+        "uniform_instability",
+        "modulated_instability",
+        "first_order",
+    ] {
         let points = v["lines"][k].as_array().unwrap();
         assert!(!points.is_empty(), "{k} is empty");
         for p in points {
             let t = p["temperature_K"].as_f64().expect(k);
             let x = p["value"].as_f64().expect(k);
             assert!(t > 0.0 && t < tc0_kelvin, "{k}: T = {t} K");
-            assert!((100.18 - 1e-9..=100.30 + 1e-9).contains(&x), "{k}: offset {x}");
+            assert!(
+                (100.18 - 1e-9..=100.30 + 1e-9).contains(&x),
+                "{k}: offset {x}"
+            );
         }
     }
     // The uniform instability falls as the mismatch grows.

@@ -3,10 +3,10 @@
 //!
 //! The reference model: two circular parabolic pockets of equal mass at one zone point, with
 //! cutoff/E_F = 0.05. Its pair density of states is exactly constant and h_k = h everywhere, so the
-//! exact uniform Tc equation differs from the digamma equation only by terms of order exp(-(Lambda
-//! - |h|)/T) (< 1e-15 here): the comparison tests the numerics at their own accuracy. For q != 0
-//! band curvature enters at order (q/kF)^2 (the crate docs, `theory::checks`: about 1e-3 relative
-//! in q*).
+//! exact uniform Tc equation differs from the digamma equation only by terms of order
+//! exp(-(Lambda - |h|)/T) (< 1e-15 here): the comparison tests the numerics at their own
+//! accuracy. For q != 0 band curvature enters at order (q/kF)^2 (the crate docs,
+//! `theory::checks`: about 1e-3 relative in q*).
 
 mod common;
 
@@ -141,7 +141,10 @@ fn lifshitz_point_on_the_uniform_line() {
         (t - 0.5615).abs() < tol::SPECIAL_POINT,
         "Lifshitz T = {t} Tc0"
     );
-    assert!((h - 1.0728).abs() < tol::SPECIAL_POINT, "Lifshitz h = {h} Tc0");
+    assert!(
+        (h - 1.0728).abs() < tol::SPECIAL_POINT,
+        "Lifshitz h = {h} Tc0"
+    );
     // The exact model's Lifshitz point against the weak-coupling one.
     assert!((t - t_l).abs() < tol::SPECIAL_POINT && (h - h_l).abs() < tol::SPECIAL_POINT);
 }
@@ -163,7 +166,10 @@ fn mismatch_sign_symmetry_and_modulated_above_uniform() {
     let (_, m0) = nested_pair(lambda, 5.0, 100.0, 0.0);
     let h_ref = 1.08;
     let uniform_weak = weak::uniform_tc(h_ref).unwrap().unwrap();
-    assert!(uniform_weak > 0.5 && uniform_weak < 0.5615, "{uniform_weak}");
+    assert!(
+        uniform_weak > 0.5 && uniform_weak < 0.5615,
+        "{uniform_weak}"
+    );
     let mut tcs = Vec::new();
     for h in [h_ref, -h_ref] {
         let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);

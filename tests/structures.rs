@@ -229,8 +229,8 @@ fn full_ranking_follows_the_weak_coupling_sequence() {
 /// The quartic coefficient of each structure from the four-insertion loop equals the quartic term
 /// of the full nonlinear Omega (multi-harmonic mean field, order m = 2, which is exact to fourth
 /// order in Delta) at small equal amplitudes on the line (identity, the crate docs,
-/// `theory::landau`): (Omega(A) - n alpha A^2)/A^4 = F4 + F6 A^2 + F8 A^4 + ..., extrapolated to A
-/// = 0 from A = 0.1, 0.2 and 0.3 T. The two routes share only the model: one integrates divided
+/// `theory::landau`): (Omega(A) - n alpha A^2)/A^4 = F4 + F6 A^2 + F8 A^4 + ..., extrapolated to
+/// A = 0 from A = 0.1, 0.2 and 0.3 T. The two routes share only the model: one integrates divided
 /// differences of f on graded panels, the other diagonalises the windowed Hamiltonian on a product
 /// grid. Relative 1e-4 (they agree to 2e-5; the extrapolation leaves O(A^6/T^6); both integrals are
 /// converged to 1e-6 or better).
@@ -345,9 +345,9 @@ fn helical_loops_carry_the_form_factors() {
 }
 
 /// Approaching the modulated line from the ordered side, the self-consistent nonlinear state of
-/// each structure tends to the Landau minimum Omega = -alpha^2 / (4 F4/(n^2 |Delta|^4)), with alpha
-/// = 1/g - chi(q*) (the crate docs, `theory::landau`: the minimum of n alpha A^2 + F4 A^4 over the
-/// amplitude). This is what makes the quartic ranking the ranking of Omega near the line. The
+/// each structure tends to the Landau minimum Omega = -alpha^2 / (4 F4/(n^2 |Delta|^4)), with
+/// alpha = 1/g - chi(q*) (the crate docs, `theory::landau`: the minimum of n alpha A^2 + F4 A^4
+/// over the amplitude). This is what makes the quartic ranking the ranking of Omega near the line. The
 /// deviation is linear in the distance d to the line; extrapolated linearly to d = 0 from d and d/2
 /// it is within 1e-2 for every structure (without extrapolation: 3% to 5% at d/2).
 #[test]

@@ -81,7 +81,10 @@ fn quartic_by_enumeration(t: f64, h: f64, qs: &[[f64; 2]], phases: &[f64]) -> f6
                     if close[0].hypot(close[1]) > 1e-9 * q_max.max(1e-300) {
                         continue;
                     }
-                    let q4 = [qs[j1][0] - qs[j2][0] + qs[j3][0], qs[j1][1] - qs[j2][1] + qs[j3][1]];
+                    let q4 = [
+                        qs[j1][0] - qs[j2][0] + qs[j3][0],
+                        qs[j1][1] - qs[j2][1] + qs[j3][1],
+                    ];
                     let (b, _) = quadruple_weak(t, h, [qs[j1], qs[j2], qs[j3], q4]).unwrap();
                     total += (phases[j1] - phases[j2] + phases[j3] - phases[j4]).cos() * b;
                 }

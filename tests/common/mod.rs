@@ -1,6 +1,7 @@
 //! Shared builders of reference configurations for the integration tests.
 #![allow(dead_code)]
 
+pub mod cli;
 pub mod tol;
 
 use nestor::config::{ConfigSource, PinnedCouplings};
