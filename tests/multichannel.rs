@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{nested_pair, tol};
+use common::{channel_toml, nested_pair, pocket_toml, tol};
 use nestor::config::ConfigSource;
 use nestor::kernels::grand_potential::grand_potential;
 use nestor::kernels::multichannel::omega_uniform_channels;
@@ -85,40 +85,14 @@ fn symmetry_related_channels_sharing_a_pocket() {
 /// points, all circular with mass 0.2 and nested with b (each measured from its own centre), in
 /// two channels with the same cutoff and couplings g1, g2 (per spin channel).
 fn shared_hole_pocket(lambda_1: f64, lambda_2: f64) -> nestor::model::Model {
-    common::model(&format!(
-        r#"
-[[pocket]]
-name = "b"
-kind = "hole"
-center = [0.0, 0.0]
-mass = 0.2
-offset = 100.0
-
-[[pocket]]
-name = "a1"
-kind = "electron"
-center = [5.0, 0.0]
-mass = 0.2
-offset = -100.0
-
-[[pocket]]
-name = "a2"
-kind = "electron"
-center = [0.0, 5.0]
-mass = 0.2
-offset = -100.0
-
-[[channel]]
-pockets = ["a1", "b"]
-lambda = {lambda_1}
-cutoff = 5.0
-
-[[channel]]
-pockets = ["a2", "b"]
-lambda = {lambda_2}
-cutoff = 5.0
-"#
-    ))
+    let electron = "mass = 0.2\noffset = -100.0";
+    common::model(
+        &(pocket_toml("b", "hole", [0.0, 0.0], "mass = 0.2\noffset = 100.0")
+            + &pocket_toml("a1", "electron", [5.0, 0.0], electron)
+            + &pocket_toml("a2", "electron", [0.0, 5.0], electron)
+            + &channel_toml("a1", "b", &format!("lambda = {lambda_1}\ncutoff = 5.0"))
+            + &channel_toml("a2", "b", &format!("lambda = {lambda_2}\ncutoff = 5.0"))),
+    )
 }
 
 /// Two channels sharing the hole pocket b, with identical partners a1 and a2 (same dispersion

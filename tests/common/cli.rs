@@ -106,12 +106,14 @@ pub fn run_with(config: &str, args: &[&str]) -> Output {
     nestor(&args)
 }
 
+/// A pocket at the zone centre (see [`super::pocket_toml`]).
 pub fn pocket(name: &str, kind: &str, body: &str) -> String {
-    format!("[[pocket]]\nname = \"{name}\"\nkind = \"{kind}\"\ncenter = [0.0, 0.0]\n{body}\n\n")
+    super::pocket_toml(name, kind, [0.0, 0.0], body)
 }
 
+/// A channel table (see [`super::channel_toml`]).
 pub fn channel(a: &str, b: &str, body: &str) -> String {
-    format!("[[channel]]\nname = \"{a}{b}\"\npockets = [\"{a}\", \"{b}\"]\n{body}\n\n")
+    super::channel_toml(a, b, body)
 }
 
 pub const E_BODY: &str = "mass = 0.2\noffset = -100.0";

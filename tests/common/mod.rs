@@ -50,6 +50,21 @@ pub fn nested_pair_fixed_g(base: &Model, cutoff: f64, e_f: f64, h: f64) -> (Conf
     (src, m)
 }
 
+/// One `[[pocket]]` table of a configuration: its name, kind, centre (1/nm, in the surface zone)
+/// and the remaining keys as TOML lines.
+pub fn pocket_toml(name: &str, kind: &str, center: [f64; 2], body: &str) -> String {
+    format!(
+        "[[pocket]]\nname = \"{name}\"\nkind = \"{kind}\"\ncenter = [{:?}, {:?}]\n{body}\n\n",
+        center[0], center[1]
+    )
+}
+
+/// One `[[channel]]` table named after its pockets (electron-like `a` first, hole-like `b`), with
+/// the remaining keys as TOML lines.
+pub fn channel_toml(a: &str, b: &str, body: &str) -> String {
+    format!("[[channel]]\nname = \"{a}{b}\"\npockets = [\"{a}\", \"{b}\"]\n{body}\n\n")
+}
+
 /// Builds a model from TOML text.
 pub fn model(text: &str) -> Model {
     ConfigSource::from_text("test", text)
