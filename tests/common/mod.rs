@@ -11,31 +11,17 @@ use nestor::model::Model;
 /// hole band edge E_F + h, so that the mismatch is h (meV) and the pair density of states is
 /// constant. `lambda` fixes g at this configuration.
 pub fn nested_pair(lambda: f64, cutoff: f64, e_f: f64, h: f64) -> (ConfigSource, Model) {
-    let text = format!(
-        r#"
-[[pocket]]
-name = "e"
-kind = "electron"
-center = [0.0, 0.0]
-mass = 0.2
-offset = {ea}
-
-[[pocket]]
-name = "h"
-kind = "hole"
-center = [0.0, 0.0]
-mass = 0.2
-offset = {eb}
-
-[[channel]]
-name = "eh"
-pockets = ["e", "h"]
-lambda = {lambda}
-cutoff = {cutoff}
-"#,
-        ea = -e_f + h,
-        eb = e_f + h
-    );
+    let text = pocket_toml(
+        "e",
+        "electron",
+        [0.0, 0.0],
+        &format!("mass = 0.2\noffset = {}", -e_f + h),
+    ) + &pocket_toml(
+        "h",
+        "hole",
+        [0.0, 0.0],
+        &format!("mass = 0.2\noffset = {}", e_f + h),
+    ) + &channel_toml("e", "h", &format!("lambda = {lambda}\ncutoff = {cutoff}"));
     let src = ConfigSource::from_text("nested pair", &text).unwrap();
     let m = src.build(None).unwrap();
     (src, m)
