@@ -76,8 +76,12 @@ fn opposite_windings_halve_the_pair_density_of_states() {
     let (h, p) = (&helical.channels[0], &plain.channels[0]);
     // Hand formula: nu = E_F / (2 pi (hbar v)^2) per spin channel for a cone (common practice).
     let nu1 = 100.0 / (2.0 * PI * 300.0 * 300.0);
-    assert!((p.nu / nu1 - 1.0).abs() < 1e-9);
-    assert!((h.nu / p.nu - 0.5).abs() < 1e-9, "ratio {}", h.nu / p.nu);
+    assert!((p.nu / nu1 - 1.0).abs() < tol::TIGHT_INTEGRATION);
+    assert!(
+        (h.nu / p.nu - 0.5).abs() < tol::TIGHT_INTEGRATION,
+        "ratio {}",
+        h.nu / p.nu
+    );
     assert_eq!(p.spin_channels, 2.0);
     assert_eq!(h.spin_channels, 1.0);
     let solver = TcSolver::default();

@@ -173,7 +173,7 @@ fn self_consistent_plane_wave_matches_the_ordered_solver() {
     assert_eq!(st.harmonic_change, 0.0);
     let g = m.channels[0].g;
     let c = st.coherence[0].1;
-    assert!((c + st.components[0].1 / g).norm() < 1e-6 * d / g);
+    assert!((c + st.components[0].1 / g).norm() < tol::INTEGRATION * d / g);
     eprintln!(
         "plane wave: Delta = {d:.8e} meV ({} iterations), Omega = {:.8e} meV/nm^2",
         st.iterations, st.omega
@@ -408,7 +408,7 @@ fn stripe_is_stationary_and_converges() {
     for (i, (gv, c)) in s2.coherence.iter().enumerate() {
         assert_eq!(*gv, s2.components[i].0);
         let d = s2.components[i].1;
-        assert!((c + d / g).norm() < 1e-6 * d.norm() / g);
+        assert!((c + d / g).norm() < tol::INTEGRATION * d.norm() / g);
     }
     let (p, mq) = (&s2.intraband[0], &s2.intraband[1]);
     assert!((p.0[0] + mq.0[0]).abs() < 1e-12);

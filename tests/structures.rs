@@ -48,7 +48,7 @@ fn loop_of_one_wavevector_is_the_plane_wave_beta() {
             "h {h} t {t} q {q}: 2B = {} vs beta = {beta}",
             2.0 * b.value.re
         );
-        assert!(b.value.im.abs() < 1e-12 * beta.abs());
+        assert!(b.value.im.abs() < tol::ROUNDING * beta.abs());
     }
 }
 

@@ -25,8 +25,7 @@
 //!
 //! # Weak coupling
 //!
-//! In the weak-coupling model of [`super::susceptibility`], per spin channel and in units of
-//! nu_ab,
+//! In the weak-coupling model of [`super::susceptibility`], per spin channel,
 //!
 //! ```text
 //! beta = nu (-Re psi''(1/2 + i h/(2 pi T))) / (16 pi^2 T^2),

@@ -30,9 +30,12 @@
 //! candidate is then computed with the harmonics of [`super::ordered`], and may reorder
 //! candidates whose quartic coefficients are close.
 //!
-//! In weak coupling the loop has a closed frequency sum: with all four energies equal,
-//! e = i w_n - h - Q cos(theta), the sum over Matsubara frequencies at fixed angle is expressed by
-//! psi'', and B(q, q, q, q) is the angular average of half the uniform beta at h + Q cos(theta).
+//! In weak coupling (linearised dispersion, Q = v q/2) each loop is a sum over Matsubara
+//! frequencies w_n = (2n + 1) pi T and an average over the Fermi-surface angle. For the plane wave
+//! the four propagators share one energy, e = i w_n - h - Q cos(theta); the frequency sum at fixed
+//! angle then closes in psi'', and B(q, q, q, q) is the angular average of half the uniform beta
+//! taken at the shifted mismatch h + Q cos(theta). For other quadruples the sum is taken
+//! numerically, with the tail beyond a cut in n summed by polygamma functions.
 //!
 //! # Density modulation
 //!
