@@ -17,10 +17,6 @@ pub const INTEGRATION: f64 = 1e-6;
 /// a double-exponential rule at 1e-13; each is far better than this.
 pub const TIGHT_INTEGRATION: f64 = 1e-9;
 
-/// Relative: a hand formula built from the CODATA 2018 constants against the code's value of the
-/// same quantity. The only difference is the order of the arithmetic.
-pub const HAND_FORMULA: f64 = 1e-12;
-
 /// Relative: the exact-integral critical temperature where the model is exactly the weak-coupling
 /// one (constant pair density of states, h_k = h). The integration target of chi (1e-7 relative)
 /// gives Tc to about 1e-7/lambda, and the root is solved to 1e-10.
