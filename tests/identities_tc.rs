@@ -9,31 +9,10 @@ use nestor::kernels::{Accuracy, Shell};
 use nestor::solvers::{TcSolver, TcStatus};
 use std::f64::consts::PI;
 
+/// Upper cone "a" (winding +1) and lower cone "b" (Dirac point at +100 meV) with winding
+/// `winding_b`, both with texture phase 0, and the coupling line `coupling`.
 fn dirac_pair(winding_b: i32, coupling: &str) -> String {
-    format!(
-        r#"
-[[pocket]]
-name = "a"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = -100.0
-spin = {{ winding = 1, phase = 0.0 }}
-
-[[pocket]]
-name = "b"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = 100.0
-spin = {{ winding = {winding_b}, phase = 0.0 }}
-
-[[channel]]
-pockets = ["a", "b"]
-{coupling}
-cutoff = 5.0
-"#
-    )
+    common::cones_toml(0.0, winding_b, 100.0, coupling)
 }
 
 /// Upper and lower helical cones with the same texture: W = 0 in the charge channel, so there is no

@@ -295,22 +295,16 @@ fn plane_wave_state_inside_the_modulated_line() {
     let t0 = tc0();
     let s = OrderedSolver::default();
     let v = m0.pockets[0].fermi_velocity_along([1.0, 0.0]);
-    let mut deltas = Vec::new();
-    for h in [1.30, 1.33] {
+    // The ordered states at T = 0.2 Tc0 and mismatch h (Tc0 units), searched over q.
+    let states_at = |h: f64| {
         let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, h * t0);
         let ch = &m.channels[0];
-        let st = s
-            .solve(
-                &m,
-                ch,
-                0.2 * t0,
-                Some(nestor::solvers::ordered::plane_wave_q_scale(
-                    &m,
-                    ch,
-                    0.2 * t0,
-                )),
-            )
-            .unwrap();
+        let q_scale = nestor::solvers::ordered::plane_wave_q_scale(&m, ch, 0.2 * t0);
+        s.solve(&m, ch, 0.2 * t0, Some(q_scale)).unwrap()
+    };
+    let mut deltas = Vec::new();
+    for h in [1.30, 1.33] {
+        let st = states_at(h);
         let c = st.chosen();
         assert_eq!(c.state, StateKind::Modulated, "h = {h} Tc0");
         let big_q = v * c.q[0].hypot(c.q[1]) / 2.0 / t0;
@@ -324,19 +318,5 @@ fn plane_wave_state_inside_the_modulated_line() {
         (h0 - 1.3519).abs() < 0.01,
         "Delta^2 extrapolates to zero at h = {h0} Tc0"
     );
-    let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, 1.40 * t0);
-    let ch = &m.channels[0];
-    let st = s
-        .solve(
-            &m,
-            ch,
-            0.2 * t0,
-            Some(nestor::solvers::ordered::plane_wave_q_scale(
-                &m,
-                ch,
-                0.2 * t0,
-            )),
-        )
-        .unwrap();
-    assert_eq!(st.chosen().state, StateKind::Normal);
+    assert_eq!(states_at(1.40).chosen().state, StateKind::Normal);
 }

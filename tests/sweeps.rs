@@ -5,10 +5,27 @@ mod common;
 
 use common::nested_pair;
 use nestor::config::parse_range;
+use nestor::config::ConfigSource;
+use nestor::model::Model;
 use nestor::reports::scan::lifshitz_on_curve;
 use nestor::solvers::tc_channel::Method;
 use nestor::solvers::TcSolver;
-use nestor::sweeps::{tc_scan::scan_tc, Grid};
+use nestor::sweeps::tc_scan::{scan_tc, ScanPoint};
+use nestor::sweeps::Grid;
+
+/// A Tc scan over `grid` by the exact method with the default solver, on all threads.
+fn exact_scan(src: &ConfigSource, m: &Model, grid: &Grid) -> Vec<ScanPoint> {
+    scan_tc(
+        src,
+        m,
+        grid,
+        &TcSolver::default(),
+        Method::Exact,
+        None,
+        false,
+    )
+    .unwrap()
+}
 
 /// The same sweep on one and on two threads gives bit-identical results in the same order
 /// (rayon maps over points and collects in grid order).
@@ -42,16 +59,7 @@ fn results_do_not_depend_on_the_thread_count() {
 fn a_failed_point_is_recorded_and_the_sweep_goes_on() {
     let (src, m) = nested_pair(0.25, 5.0, 100.0, 0.0);
     let grid = Grid::new(vec![parse_range("e.offset=-100:10:2").unwrap()]).unwrap();
-    let pts = scan_tc(
-        &src,
-        &m,
-        &grid,
-        &TcSolver::default(),
-        Method::Exact,
-        None,
-        false,
-    )
-    .unwrap();
+    let pts = exact_scan(&src, &m, &grid);
     assert!(pts[0].result.is_ok());
     let err = pts[1].result.as_ref().unwrap_err();
     assert!(err.contains("offset"), "{err}");
@@ -72,16 +80,7 @@ fn q_star_leaves_zero_continuously_at_the_lifshitz_point() {
         100.0 + 2.0 * h1 * tc0
     );
     let grid = Grid::new(vec![parse_range(&range).unwrap()]).unwrap();
-    let pts = scan_tc(
-        &src,
-        &m,
-        &grid,
-        &TcSolver::default(),
-        Method::Exact,
-        None,
-        false,
-    )
-    .unwrap();
+    let pts = exact_scan(&src, &m, &grid);
     let q: Vec<f64> = pts
         .iter()
         .map(|p| p.result.as_ref().unwrap()[0].q_star())

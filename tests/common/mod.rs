@@ -59,32 +59,30 @@ pub fn model(text: &str) -> Model {
         .unwrap()
 }
 
+/// Two helical Dirac cones at one zone point (hbar v = 300 meV nm): "a" with its Dirac point at
+/// -100 meV (electron-like), winding +1 and texture phase `phase_a` (degrees), and "b" with its
+/// Dirac point at `offset_b` (hole-like for `offset_b` > 0), winding `winding_b` and phase 0; one
+/// channel "ab" with a cutoff of 5 meV and the coupling line `coupling` (`g = ...` or
+/// `lambda = ...`).
+pub fn cones_toml(phase_a: f64, winding_b: i32, offset_b: f64, coupling: &str) -> String {
+    let cone = |offset: f64, winding: i32, phase: f64| {
+        format!(
+            "velocity = 300.0\noffset = {offset:?}\nspin = {{ winding = {winding}, phase = {phase:?} }}"
+        )
+    };
+    pocket_toml("a", "dirac", [0.0, 0.0], &cone(-100.0, 1, phase_a))
+        + &pocket_toml("b", "dirac", [0.0, 0.0], &cone(offset_b, winding_b, 0.0))
+        + &channel_toml("a", "b", &format!("{coupling}\ncutoff = 5.0"))
+}
+
 /// Upper and lower helical Dirac cones with opposite windings at one zone point (hbar v = 300
 /// meV nm, Dirac points at -100 meV and `offset_b`), the first with texture phase `phase_a`
 /// (degrees): W = sin^2 of the angle, a complex vertex M_ab when `phase_a` != 0.
 pub fn opposite_cones(phase_a: f64, offset_b: f64, lambda: f64) -> Model {
-    model(&format!(
-        r#"
-[[pocket]]
-name = "a"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = -100.0
-spin = {{ winding = 1, phase = {phase_a} }}
-
-[[pocket]]
-name = "b"
-kind = "dirac"
-center = [0.0, 0.0]
-velocity = 300.0
-offset = {offset_b}
-spin = {{ winding = -1, phase = 0.0 }}
-
-[[channel]]
-pockets = ["a", "b"]
-lambda = {lambda}
-cutoff = 5.0
-"#
+    model(&cones_toml(
+        phase_a,
+        -1,
+        offset_b,
+        &format!("lambda = {lambda}"),
     ))
 }
