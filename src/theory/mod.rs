@@ -20,6 +20,21 @@
 //! - which multi-wavevector pattern (stripe, square, triangle, hexagon, ...) forms, and what
 //!   density modulation it carries ([`patterns`]).
 //!
+//! # Approximations
+//!
+//! - **Mean field.** The electron-hole interaction is decoupled in the pairing channel only; the
+//!   order parameter is a classical field and its fluctuations are left out. In two dimensions
+//!   the mean-field Tc is therefore an upper bound on the true transition (see
+//!   [`patterns`] for the Kosterlitz-Thouless estimate).
+//! - **Contact coupling in a shell.** The interaction is a constant g acting only between states
+//!   whose shell variable lies within the cutoff, |xi_k| < Lambda; Lambda stands in for the
+//!   energy range over which the real interaction is attractive and unscreened.
+//! - **Small pockets.** Each pocket is described by its own low-energy dispersion about its zone
+//!   point; momenta are measured from the pocket centres, and the ordering wavevector is the
+//!   separation of the centres plus the small q of the order.
+//! - **Rigid bands.** The dispersions do not change with the order, apart from the common shift of
+//!   the chemical potential in the fixed-density mode.
+//!
 //! # How to read these pages
 //!
 //! | page | contents |
