@@ -36,6 +36,8 @@ pub fn path_value(base: &ConfigSource, path: &str) -> Result<f64, NestorError> {
 }
 
 impl PatternSolver {
+    // Over 80 lines: the outward bracketing and the Brent refinement share the margin closure
+    // and its mapping of input errors, and are kept in one piece with it.
     /// The point on the modulated instability line at temperature t (meV) reached by varying
     /// `path` from its value in `base`: the nearest value where max_q g chi(q, t) = 1, found by
     /// stepping outwards from the base value on both sides until the sign changes and refining
