@@ -10,7 +10,9 @@ use nestor::solvers::ordered::OrderedSolver;
 use nestor::solvers::pattern::PatternSolver;
 use nestor::solvers::TcSolver;
 use nestor::sweeps::defaults::default_t_max;
-use nestor::sweeps::phase_map::{mark_structures, phase_diagram, PhaseDiagram, PhaseOptions};
+use nestor::sweeps::phase_map::{
+    mark_structures, phase_diagram, PhaseDiagram, PhaseOptions, SpecialPoint,
+};
 use nestor::sweeps::Grid;
 use std::io::IsTerminal;
 use std::path::PathBuf;
@@ -147,37 +149,35 @@ fn t_max(
 
 /// Prints the tricritical and Lifshitz points (K) and warns of failed special-point searches.
 fn print_special_points(grid: &Grid, d: &PhaseDiagram) {
-    let k = nestor::units::mev_to_kelvin;
-    match d.tricritical {
-        Some(p) => println!(
-            "tricritical point: {} = {:.5}, T = {:.4} K{}",
-            grid.axes[0].path(),
-            p.value,
-            k(p.t),
-            if p.on_boundary {
-                ""
-            } else {
-                " (preempted by the modulated state)"
-            }
-        ),
-        None => println!("tricritical point: none in range"),
-    }
-    match d.lifshitz {
-        Some(p) => println!(
-            "Lifshitz point: {} = {:.5}, T = {:.4} K{}",
-            grid.axes[0].path(),
-            p.value,
-            k(p.t),
-            if p.on_boundary {
-                ""
-            } else {
-                " (the uniform line is not second order there)"
-            }
-        ),
-        None => println!("Lifshitz point: none in range"),
-    }
+    print_point(
+        grid,
+        "tricritical point",
+        d.tricritical,
+        " (preempted by the modulated state)",
+    );
+    print_point(
+        grid,
+        "Lifshitz point",
+        d.lifshitz,
+        " (the uniform line is not second order there)",
+    );
     for f in &d.special_point_failures {
         eprintln!("nestor: warning: {f}");
+    }
+}
+
+/// One special point: its parameter value and temperature (K), `off_boundary` appended when it
+/// is not on the phase boundary.
+fn print_point(grid: &Grid, name: &str, p: Option<SpecialPoint>, off_boundary: &str) {
+    match p {
+        Some(p) => println!(
+            "{name}: {} = {:.5}, T = {:.4} K{}",
+            grid.axes[0].path(),
+            p.value,
+            nestor::units::mev_to_kelvin(p.t),
+            if p.on_boundary { "" } else { off_boundary }
+        ),
+        None => println!("{name}: none in range"),
     }
 }
 

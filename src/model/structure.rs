@@ -135,11 +135,16 @@ pub fn quadruple_phase(phases: &[f64], j: [usize; 4]) -> f64 {
 /// `n x n` grid: equals the number of quadruples for incommensurate-free sets once `side` spans
 /// many periods. Used as an independent count in the tests.
 pub fn real_space_fourth_moment(qs: &[[f64; 2]], side: f64, n: usize) -> f64 {
+    fourth_moment_on_rectangle(qs, side, side, n)
+}
+
+/// As [`real_space_fourth_moment`] over a rectangle of sides `lx` x `ly` (nm) on an `n x n` grid.
+pub fn fourth_moment_on_rectangle(qs: &[[f64; 2]], lx: f64, ly: f64, n: usize) -> f64 {
     let mut sum = 0.0;
     for iy in 0..n {
         for ix in 0..n {
-            let x = side * (ix as f64 + 0.5) / n as f64;
-            let y = side * (iy as f64 + 0.5) / n as f64;
+            let x = lx * (ix as f64 + 0.5) / n as f64;
+            let y = ly * (iy as f64 + 0.5) / n as f64;
             let (mut re, mut im) = (0.0, 0.0);
             for q in qs {
                 let (s, c) = (q[0] * x + q[1] * y).sin_cos();
@@ -178,22 +183,7 @@ mod tests {
         for name in ["triangle", "hexagon"] {
             let s = Structure::named(name, [2.0 * TURN, 0.0]).unwrap();
             let count = s.quadruples().len() as f64;
-            let (lx, ly, n) = (1.0, 3f64.sqrt(), 96);
-            let mut sum = 0.0;
-            for iy in 0..n {
-                for ix in 0..n {
-                    let x = lx * (ix as f64 + 0.5) / n as f64;
-                    let y = ly * (iy as f64 + 0.5) / n as f64;
-                    let (mut re, mut im) = (0.0, 0.0);
-                    for q in &s.wavevectors {
-                        let (sn, c) = (q[0] * x + q[1] * y).sin_cos();
-                        re += c;
-                        im += sn;
-                    }
-                    sum += (re * re + im * im).powi(2);
-                }
-            }
-            let avg = sum / (n * n) as f64;
+            let avg = fourth_moment_on_rectangle(&s.wavevectors, 1.0, 3f64.sqrt(), 96);
             assert!((count - avg).abs() < 1e-8, "{name}: {count} vs {avg}");
         }
         // The counts themselves: 2 n^2 - n for sets without nontrivial coincidences.
