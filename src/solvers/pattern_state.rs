@@ -326,87 +326,31 @@ pub fn solve_structure(
         .collect();
     let x0 = set.place(&start)?;
     let sym = ray_symmetry(model, ch, &set, &x0);
-    let qs = set.difference_wavevectors();
-    let mut grid = opts.grid;
-    let mut solved = iterate(model, ch, &set, x0, t, &grid, &sym, opts, start_amplitude)?;
-    let mut iterations = solved.iterations;
-    let mut refinements = 0;
-    let (fine, grid_change) = loop {
-        let fine = omega_on_grid(
-            model,
-            ch,
-            &set,
-            &solved.x,
-            t,
-            &grid.doubled(),
-            &qs,
-            &sym,
-            true,
-        )?;
-        let change = (fine.omega - solved.eval.omega).abs();
-        // Relative to Omega, with a floor at the scale of the starting state (a solution that
-        // fell far below it is judged against that scale, not against its own tiny Omega).
-        let start_scale = 1e-2 * wavevectors.len() as f64 * start_amplitude * start_amplitude / c.g;
-        let target = grid.rtol * omega_scale(fine.omega, &solved.x, c.g).max(start_scale);
-        if change <= target {
-            break (fine, change);
-        }
-        if refinements >= grid.max_doublings {
-            return Err(NumericalError::NotConverged {
-                what: "multi-wavevector state over the k grid".into(),
-                iterations: refinements + 1,
-                last_change: change,
-                target,
-            });
-        }
-        refinements += 1;
-        grid = grid.doubled();
-        let x = solved.x.clone();
-        solved = iterate(model, ch, &set, x, t, &grid, &sym, opts, start_amplitude)?;
-        iterations += solved.iterations;
+    let solve = StructureSolve {
+        model,
+        ch,
+        t,
+        opts,
+        start_amplitude,
     };
+    let solved = solve.iterate(&set, x0, &opts.grid, &sym)?;
+    let converged = solve.converge_grid(&set, &sym, solved, wavevectors.len(), c.g)?;
+    let (solved, fine, grid_change, grid) = (
+        converged.solved,
+        converged.fine,
+        converged.grid_change,
+        converged.grid,
+    );
+    let mut iterations = converged.iterations;
     // Harmonics: order m + 1 on the solve grid.
     let (harmonic_change, harmonic_component_change) = match opts.harmonic_check {
         HarmonicCheck::None => (f64::NAN, f64::NAN),
         _ if solved.normal => (0.0, 0.0),
         check => {
-            let up = HarmonicSet::new(wavevectors, opts.order + 1)?;
-            if up.window_sizes() == set.window_sizes() && up.fourier.len() == set.fourier.len() {
-                // The windows closed (one wavevector): order m + 1 is the same problem.
-                (0.0, 0.0)
-            } else {
-                let comps: Vec<([f64; 2], Complex64)> = set
-                    .fourier
-                    .iter()
-                    .copied()
-                    .zip(solved.x.iter().copied())
-                    .collect();
-                let x_up = up.place(&comps)?;
-                let sym_up = ray_symmetry(model, ch, &up, &x_up);
-                if check == HarmonicCheck::Evaluate {
-                    let e = omega_on_grid(model, ch, &up, &x_up, t, &grid, &[], &sym_up, false)?;
-                    ((e.omega - solved.eval.omega).abs(), 0.0)
-                } else {
-                    let s = iterate(
-                        model,
-                        ch,
-                        &up,
-                        x_up.clone(),
-                        t,
-                        &grid,
-                        &sym_up,
-                        opts,
-                        start_amplitude,
-                    )?;
-                    iterations += s.iterations;
-                    let dmax =
-                        s.x.iter()
-                            .zip(&x_up)
-                            .map(|(a, b)| (a - b).norm())
-                            .fold(0.0, f64::max);
-                    ((s.eval.omega - solved.eval.omega).abs(), dmax)
-                }
-            }
+            let (omega_change, dmax, its) =
+                solve.harmonic_change(&set, wavevectors, &solved, &grid, check)?;
+            iterations += its;
+            (omega_change, dmax)
         }
     };
     let omega_error = grid_change
@@ -447,6 +391,143 @@ pub fn solve_structure(
         normal: solved.normal,
         symmetry_fold: sym.fold(),
     })
+}
+
+/// One structure's solve: the channel, the temperature (meV), the options and the starting
+/// amplitude (meV), shared by the grid refinement and the harmonic check.
+struct StructureSolve<'a> {
+    model: &'a Model,
+    ch: usize,
+    t: f64,
+    opts: &'a PatternOptions,
+    start_amplitude: f64,
+}
+
+/// The state on the grid that reached its target: the solution, its evaluation on the doubled
+/// grid, the change between them, the grid and the iterations spent.
+struct GridConverged {
+    solved: Solved,
+    fine: MultiOmega,
+    grid_change: f64,
+    grid: HarmonicGrid,
+    iterations: usize,
+}
+
+impl StructureSolve<'_> {
+    /// The fixed-point iteration on `set` from x0 on `grid`.
+    fn iterate(
+        &self,
+        set: &HarmonicSet,
+        x0: Vec<Complex64>,
+        grid: &HarmonicGrid,
+        sym: &RaySymmetry,
+    ) -> Result<Solved, NumericalError> {
+        iterate(
+            self.model,
+            self.ch,
+            set,
+            x0,
+            self.t,
+            grid,
+            sym,
+            self.opts,
+            self.start_amplitude,
+        )
+    }
+
+    /// Evaluates `solved` on the doubled grid and solves again on finer grids until the change is
+    /// within the grid's target (`n1` first harmonics, coupling g in meV nm^2).
+    fn converge_grid(
+        &self,
+        set: &HarmonicSet,
+        sym: &RaySymmetry,
+        mut solved: Solved,
+        n1: usize,
+        g: f64,
+    ) -> Result<GridConverged, NumericalError> {
+        let (model, ch, t) = (self.model, self.ch, self.t);
+        let qs = set.difference_wavevectors();
+        let mut grid = self.opts.grid;
+        let mut iterations = solved.iterations;
+        let mut refinements = 0;
+        loop {
+            let fine = omega_on_grid(
+                model,
+                ch,
+                set,
+                &solved.x,
+                t,
+                &grid.doubled(),
+                &qs,
+                sym,
+                true,
+            )?;
+            let change = (fine.omega - solved.eval.omega).abs();
+            // Relative to Omega, with a floor at the scale of the starting state (a solution that
+            // fell far below it is judged against that scale, not against its own tiny Omega).
+            let start_scale = 1e-2 * n1 as f64 * self.start_amplitude * self.start_amplitude / g;
+            let target = grid.rtol * omega_scale(fine.omega, &solved.x, g).max(start_scale);
+            if change <= target {
+                return Ok(GridConverged {
+                    solved,
+                    fine,
+                    grid_change: change,
+                    grid,
+                    iterations,
+                });
+            }
+            if refinements >= grid.max_doublings {
+                return Err(NumericalError::NotConverged {
+                    what: "multi-wavevector state over the k grid".into(),
+                    iterations: refinements + 1,
+                    last_change: change,
+                    target,
+                });
+            }
+            refinements += 1;
+            grid = grid.doubled();
+            let x = solved.x.clone();
+            solved = self.iterate(set, x, &grid, sym)?;
+            iterations += solved.iterations;
+        }
+    }
+
+    /// The change of Omega (and the largest change of a component, meV, when re-solved) at
+    /// harmonic order m + 1 on `grid`, with the iterations spent.
+    fn harmonic_change(
+        &self,
+        set: &HarmonicSet,
+        wavevectors: &[[f64; 2]],
+        solved: &Solved,
+        grid: &HarmonicGrid,
+        check: HarmonicCheck,
+    ) -> Result<(f64, f64, usize), NumericalError> {
+        let (model, ch, t) = (self.model, self.ch, self.t);
+        let up = HarmonicSet::new(wavevectors, self.opts.order + 1)?;
+        if up.window_sizes() == set.window_sizes() && up.fourier.len() == set.fourier.len() {
+            // The windows closed (one wavevector): order m + 1 is the same problem.
+            return Ok((0.0, 0.0, 0));
+        }
+        let comps: Vec<([f64; 2], Complex64)> = set
+            .fourier
+            .iter()
+            .copied()
+            .zip(solved.x.iter().copied())
+            .collect();
+        let x_up = up.place(&comps)?;
+        let sym_up = ray_symmetry(model, ch, &up, &x_up);
+        if check == HarmonicCheck::Evaluate {
+            let e = omega_on_grid(model, ch, &up, &x_up, t, grid, &[], &sym_up, false)?;
+            return Ok(((e.omega - solved.eval.omega).abs(), 0.0, 0));
+        }
+        let s = self.iterate(&up, x_up.clone(), grid, &sym_up)?;
+        let dmax =
+            s.x.iter()
+                .zip(&x_up)
+                .map(|(a, b)| (a - b).norm())
+                .fold(0.0, f64::max);
+        Ok(((s.eval.omega - solved.eval.omega).abs(), dmax, s.iterations))
+    }
 }
 
 /// Omega per spin channel (meV/nm^2) and its error estimate at equal first-harmonic amplitudes
