@@ -38,15 +38,7 @@ pub fn omega_uniform_channels(
                 .into(),
         ));
     }
-    // The pockets involved, in a fixed order.
-    let mut pockets: Vec<usize> = Vec::new();
-    for c in &chans {
-        for p in [c.a, c.b] {
-            if !pockets.contains(&p) {
-                pockets.push(p);
-            }
-        }
-    }
+    let pockets = involved_pockets(&chans);
     let shells: Vec<Shell> = chans
         .iter()
         .map(|c| Shell::for_channel(model, c, [0.0, 0.0]))
@@ -198,4 +190,17 @@ impl CoupledRays<'_> {
         let ordered: f64 = eig.eigenvalues.iter().map(|&e| phi(e, t)).sum();
         Some(ordered - normal)
     }
+}
+
+/// The pockets of the channels, each once, in order of first appearance.
+fn involved_pockets(chans: &[&Channel]) -> Vec<usize> {
+    let mut pockets: Vec<usize> = Vec::new();
+    for c in chans {
+        for p in [c.a, c.b] {
+            if !pockets.contains(&p) {
+                pockets.push(p);
+            }
+        }
+    }
+    pockets
 }

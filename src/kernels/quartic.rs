@@ -140,25 +140,7 @@ pub fn quadruple_loop(
     t: f64,
     acc: &Accuracy,
 ) -> Result<LoopValue, NumericalError> {
-    if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
-        return Err(NumericalError::Invalid(format!(
-            "the quartic coefficient needs T > 0 (got {t} meV)"
-        )));
-    }
-    let scale = q
-        .iter()
-        .map(|v| v[0].hypot(v[1]))
-        .fold(0.0, f64::max)
-        .max(1e-12);
-    let miss = [
-        q[0][0] - q[1][0] + q[2][0] - q[3][0],
-        q[0][1] - q[1][1] + q[2][1] - q[3][1],
-    ];
-    if miss[0].hypot(miss[1]) > 1e-9 * scale {
-        return Err(NumericalError::Invalid(
-            "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
-        ));
-    }
+    check_loop(&q, t)?;
     let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
     let lp = LoopRays {
         a,
@@ -216,6 +198,31 @@ pub fn quadruple_loop(
             });
         }
     }
+}
+
+/// T (meV) must be positive and the wavevectors (1/nm) conserve momentum, q1 - q2 + q3 - q4 = 0
+/// to 1e-9 of the largest.
+fn check_loop(q: &[[f64; 2]; 4], t: f64) -> Result<(), NumericalError> {
+    if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
+        return Err(NumericalError::Invalid(format!(
+            "the quartic coefficient needs T > 0 (got {t} meV)"
+        )));
+    }
+    let scale = q
+        .iter()
+        .map(|v| v[0].hypot(v[1]))
+        .fold(0.0, f64::max)
+        .max(1e-12);
+    let miss = [
+        q[0][0] - q[1][0] + q[2][0] - q[3][0],
+        q[0][1] - q[1][1] + q[2][1] - q[3][1],
+    ];
+    if miss[0].hypot(miss[1]) > 1e-9 * scale {
+        return Err(NumericalError::Invalid(
+            "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
+        ));
+    }
+    Ok(())
 }
 
 /// The rays of one four-insertion loop: the channel, the shell of the first vertex (polar

@@ -306,18 +306,7 @@ pub fn solve_structure(
         .channels
         .get(ch)
         .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
-    if phases.len() != wavevectors.len() {
-        return Err(NumericalError::Invalid(format!(
-            "{} phases given for {} wavevectors",
-            phases.len(),
-            wavevectors.len()
-        )));
-    }
-    if !start_amplitude.is_finite() || start_amplitude <= 0.0 {
-        return Err(NumericalError::Invalid(format!(
-            "the starting amplitude must be positive (got {start_amplitude} meV)"
-        )));
-    }
+    check_start(wavevectors, phases, start_amplitude)?;
     let set = HarmonicSet::new(wavevectors, opts.order)?;
     let start: Vec<([f64; 2], Complex64)> = wavevectors
         .iter()
@@ -334,14 +323,13 @@ pub fn solve_structure(
         start_amplitude,
     };
     let solved = solve.iterate(&set, x0, &opts.grid, &sym)?;
-    let converged = solve.converge_grid(&set, &sym, solved, wavevectors.len(), c.g)?;
-    let (solved, fine, grid_change, grid) = (
-        converged.solved,
-        converged.fine,
-        converged.grid_change,
-        converged.grid,
-    );
-    let mut iterations = converged.iterations;
+    let GridConverged {
+        solved,
+        fine,
+        grid_change,
+        grid,
+        mut iterations,
+    } = solve.converge_grid(&set, &sym, solved, wavevectors.len(), c.g)?;
     // Harmonics: order m + 1 on the solve grid.
     let (harmonic_change, harmonic_component_change) = match opts.harmonic_check {
         HarmonicCheck::None => (f64::NAN, f64::NAN),
@@ -365,12 +353,7 @@ pub fn solve_structure(
         phases: phases.to_vec(),
         t,
         order: opts.order,
-        components: set
-            .fourier
-            .iter()
-            .copied()
-            .zip(solved.x.iter().copied())
-            .collect(),
+        components: on_fourier(&set, &solved.x),
         omega: fine.omega,
         omega_error,
         spin_channels: c.spin_channels,
@@ -380,17 +363,37 @@ pub fn solve_structure(
         harmonic_component_change,
         grid_change,
         grid,
-        coherence: set
-            .fourier
-            .iter()
-            .copied()
-            .zip(fine.coherence.iter().copied())
-            .take(n1)
-            .collect(),
+        coherence: on_fourier(&set, &fine.coherence)[..n1].to_vec(),
         intraband: fine.intraband,
         normal: solved.normal,
         symmetry_fold: sym.fold(),
     })
+}
+
+/// The values `x` paired with the vectors G (1/nm) of the Fourier set.
+fn on_fourier(set: &HarmonicSet, x: &[Complex64]) -> Vec<([f64; 2], Complex64)> {
+    set.fourier.iter().copied().zip(x.iter().copied()).collect()
+}
+
+/// One phase (radians) per wavevector and a positive starting amplitude (meV).
+fn check_start(
+    wavevectors: &[[f64; 2]],
+    phases: &[f64],
+    start_amplitude: f64,
+) -> Result<(), NumericalError> {
+    if phases.len() != wavevectors.len() {
+        return Err(NumericalError::Invalid(format!(
+            "{} phases given for {} wavevectors",
+            phases.len(),
+            wavevectors.len()
+        )));
+    }
+    if !start_amplitude.is_finite() || start_amplitude <= 0.0 {
+        return Err(NumericalError::Invalid(format!(
+            "the starting amplitude must be positive (got {start_amplitude} meV)"
+        )));
+    }
+    Ok(())
 }
 
 /// One structure's solve: the channel, the temperature (meV), the options and the starting
@@ -508,13 +511,7 @@ impl StructureSolve<'_> {
             // The windows closed (one wavevector): order m + 1 is the same problem.
             return Ok((0.0, 0.0, 0));
         }
-        let comps: Vec<([f64; 2], Complex64)> = set
-            .fourier
-            .iter()
-            .copied()
-            .zip(solved.x.iter().copied())
-            .collect();
-        let x_up = up.place(&comps)?;
+        let x_up = up.place(&on_fourier(set, &solved.x))?;
         let sym_up = ray_symmetry(model, ch, &up, &x_up);
         if check == HarmonicCheck::Evaluate {
             let e = omega_on_grid(model, ch, &up, &x_up, t, grid, &[], &sym_up, false)?;

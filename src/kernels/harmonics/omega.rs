@@ -144,34 +144,27 @@ pub fn omega_on_grid(
         diagonalisations,
     } = sums;
     let quad: f64 = deltas.iter().map(|d| d.norm_sqr()).sum::<f64>() / c.g;
-    if !derivatives {
-        return Ok(MultiOmega {
-            omega: quad + omega_band,
-            error: None,
-            fourier: set.fourier.clone(),
-            deltas: deltas.to_vec(),
-            coherence: Vec::new(),
-            gradient: Vec::new(),
-            intraband: Vec::new(),
-            grid: *grid,
-            diagonalisations,
-        });
-    }
-    let gradient = deltas
-        .iter()
-        .zip(&coh)
-        .map(|(d, x)| *d / c.g + *x)
-        .collect();
+    let (coherence, gradient, intraband) = if derivatives {
+        let gradient = deltas
+            .iter()
+            .zip(&coh)
+            .map(|(d, x)| *d / c.g + *x)
+            .collect();
+        let intraband = (0..n_requested)
+            .map(|k| (qs[k], intra[k][0], intra[k][1]))
+            .collect();
+        (coh, gradient, intraband)
+    } else {
+        (Vec::new(), Vec::new(), Vec::new())
+    };
     Ok(MultiOmega {
         omega: quad + omega_band,
         error: None,
         fourier: set.fourier.clone(),
         deltas: deltas.to_vec(),
-        coherence: coh,
+        coherence,
         gradient,
-        intraband: (0..n_requested)
-            .map(|k| (qs[k], intra[k][0], intra[k][1]))
-            .collect(),
+        intraband,
         grid: *grid,
         diagonalisations,
     })
