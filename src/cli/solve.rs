@@ -43,17 +43,22 @@ pub fn run(a: &SolveStateArgs) -> Result<Outcome, Failure> {
     }
     let t = nestor::units::kelvin_to_mev(a.temperature);
     let s = OrderedSolver::default();
+    let at = SolveAt {
+        model: &model,
+        s: &s,
+        t,
+    };
     let mut json_channels = Vec::new();
     let mut text = String::new();
     for idx in 0..model.channels.len() {
-        let mut cj = channel_states(a, &model, &s, idx, t, &mut text)?;
+        let mut cj = at.channel_states(idx, a.uniform_only, &mut text)?;
         if a.fixed_density {
-            cj["fixed_density"] = fixed_density(&model, &s, idx, t, &mut text)?;
+            cj["fixed_density"] = at.fixed_density(idx, &mut text)?;
         }
         json_channels.push(cj);
         text.push('\n');
     }
-    let coupled = coupled_channels(&model, &s, t, &mut text)?;
+    let coupled = at.coupled_channels(&mut text)?;
     if a.json {
         let mut v = tables::header(&src, "solve");
         v["coupled_channels"] = serde_json::Value::Array(coupled);
@@ -67,67 +72,66 @@ pub fn run(a: &SolveStateArgs) -> Result<Outcome, Failure> {
     Ok(Outcome::Done)
 }
 
-/// The ordered states of channel `idx` with their spectra: the text appended to `text`, the JSON
-/// returned.
-fn channel_states(
-    a: &SolveStateArgs,
-    model: &Model,
-    s: &OrderedSolver,
-    idx: usize,
+/// The model, the ordered solver and the temperature (meV) of one `solve`.
+struct SolveAt<'a> {
+    model: &'a Model,
+    s: &'a OrderedSolver,
     t: f64,
-    text: &mut String,
-) -> Result<serde_json::Value, Failure> {
-    let ch = &model.channels[idx];
-    let qs = (!a.uniform_only).then(|| plane_wave_q_scale(model, ch, t));
-    let st = s.solve(model, ch, t, qs).map_err(NestorError::from)?;
-    let spectra = st
-        .solutions
-        .iter()
-        .map(|sol| spectrum(model, ch, sol))
-        .collect::<Result<Vec<_>, _>>()
-        .map_err(NestorError::from)?;
-    *text += &tables::ordered_text(ch, &st, &spectra);
-    Ok(tables::ordered_json(model, ch, &st, &spectra))
 }
 
-/// The state of channel `idx` at the fixed net carrier density: a line appended to `text`, the
-/// JSON returned.
-fn fixed_density(
-    model: &Model,
-    s: &OrderedSolver,
-    idx: usize,
-    t: f64,
-    text: &mut String,
-) -> Result<serde_json::Value, Failure> {
-    let window = fixed_density_window(model, idx, t);
-    let cs = canonical_state(s, model, idx, t, window).map_err(NestorError::from)?;
-    *text += &format!(
-        "fixed density {:.6e}/nm^2: {}{} (chemical potential shifted by {:.5} meV, Delta = {:.5} meV)\n",
-        cs.density,
-        cs.state,
-        cs.ordered_fraction.map(|f| format!(", ordered fraction {f:.4}")).unwrap_or_default(),
-        cs.mu_shift,
-        cs.delta
-    );
-    Ok(serde_json::to_value(&cs).unwrap_or_default())
-}
-
-/// The uniform channels that share a pocket, ordered together: lines appended to `text`, the
-/// JSON of each pair returned.
-fn coupled_channels(
-    model: &Model,
-    s: &OrderedSolver,
-    t: f64,
-    text: &mut String,
-) -> Result<Vec<serde_json::Value>, Failure> {
-    let mut coupled = Vec::new();
-    for pair in pocket_sharing_pairs(model) {
-        let c = coupled_uniform(s, model, pair, t).map_err(NestorError::from)?;
-        *text += &format!(
-            "channels {} and {} share a pocket: they {} (uniform gaps {:.5}, {:.5} meV; Omega {:.5e} vs {:.5e} / {:.5e} alone, meV/nm^2 per spin channel); relative phase: {}\n",
-            c.channels[0], c.channels[1], c.outcome, c.deltas[0], c.deltas[1], c.omega, c.omega_single[0], c.omega_single[1], c.relative_phase
-        );
-        coupled.push(serde_json::to_value(&c).unwrap_or_default());
+impl SolveAt<'_> {
+    /// The ordered states of channel `idx` with their spectra: the text appended to `text`, the JSON
+    /// returned.
+    fn channel_states(
+        &self,
+        idx: usize,
+        uniform_only: bool,
+        text: &mut String,
+    ) -> Result<serde_json::Value, Failure> {
+        let (model, s, t) = (self.model, self.s, self.t);
+        let ch = &model.channels[idx];
+        let qs = (!uniform_only).then(|| plane_wave_q_scale(model, ch, t));
+        let st = s.solve(model, ch, t, qs).map_err(NestorError::from)?;
+        let spectra = st
+            .solutions
+            .iter()
+            .map(|sol| spectrum(model, ch, sol))
+            .collect::<Result<Vec<_>, _>>()
+            .map_err(NestorError::from)?;
+        *text += &tables::ordered_text(ch, &st, &spectra);
+        Ok(tables::ordered_json(model, ch, &st, &spectra))
     }
-    Ok(coupled)
+
+    /// The state of channel `idx` at the fixed net carrier density: a line appended to `text`, the
+    /// JSON returned.
+    fn fixed_density(&self, idx: usize, text: &mut String) -> Result<serde_json::Value, Failure> {
+        let (model, s, t) = (self.model, self.s, self.t);
+        let window = fixed_density_window(model, idx, t);
+        let cs = canonical_state(s, model, idx, t, window).map_err(NestorError::from)?;
+        *text += &format!(
+            "fixed density {:.6e}/nm^2: {}{} (chemical potential shifted by {:.5} meV, Delta = {:.5} meV)\n",
+            cs.density,
+            cs.state,
+            cs.ordered_fraction.map(|f| format!(", ordered fraction {f:.4}")).unwrap_or_default(),
+            cs.mu_shift,
+            cs.delta
+        );
+        Ok(serde_json::to_value(&cs).unwrap_or_default())
+    }
+
+    /// The uniform channels that share a pocket, ordered together: lines appended to `text`, the
+    /// JSON of each pair returned.
+    fn coupled_channels(&self, text: &mut String) -> Result<Vec<serde_json::Value>, Failure> {
+        let (model, s, t) = (self.model, self.s, self.t);
+        let mut coupled = Vec::new();
+        for pair in pocket_sharing_pairs(model) {
+            let c = coupled_uniform(s, model, pair, t).map_err(NestorError::from)?;
+            *text += &format!(
+                "channels {} and {} share a pocket: they {} (uniform gaps {:.5}, {:.5} meV; Omega {:.5e} vs {:.5e} / {:.5e} alone, meV/nm^2 per spin channel); relative phase: {}\n",
+                c.channels[0], c.channels[1], c.outcome, c.deltas[0], c.deltas[1], c.omega, c.omega_single[0], c.omega_single[1], c.relative_phase
+            );
+            coupled.push(serde_json::to_value(&c).unwrap_or_default());
+        }
+        Ok(coupled)
+    }
 }
