@@ -17,8 +17,7 @@
 
 use crate::error::NumericalError;
 use crate::kernels::harmonics::{
-    omega_multi, omega_on_grid, omega_scale, ray_symmetry, HarmonicGrid, HarmonicSet, MultiOmega,
-    RaySymmetry,
+    omega_scale, ray_symmetry, HarmonicGrid, HarmonicSet, MultiOmega, OmegaAt, RaySymmetry,
 };
 use crate::model::Model;
 use nalgebra::{DMatrix, DVector};
@@ -234,7 +233,7 @@ fn iterate(
     let mut last = f64::NAN;
     let floor = 1e-7 * amplitude_scale;
     for it in 1..=opts.max_iterations {
-        let eval = omega_on_grid(model, ch, set, &x, t, grid, &[], sym, true)?;
+        let eval = OmegaAt::new(model, ch, set, &x, t).on_grid(grid, sym)?;
         let mut y: Vec<Complex64> = eval.coherence.iter().map(|c| -*c * g).collect();
         project(&mut y, &orbits);
         let f: Vec<Complex64> = y.iter().zip(&x).map(|(a, b)| a - b).collect();
@@ -454,17 +453,9 @@ impl StructureSolve<'_> {
         let mut iterations = solved.iterations;
         let mut refinements = 0;
         loop {
-            let fine = omega_on_grid(
-                model,
-                ch,
-                set,
-                &solved.x,
-                t,
-                &grid.doubled(),
-                &qs,
-                sym,
-                true,
-            )?;
+            let fine = OmegaAt::new(model, ch, set, &solved.x, t)
+                .with_intraband(&qs)
+                .on_grid(&grid.doubled(), sym)?;
             let change = (fine.omega - solved.eval.omega).abs();
             // Relative to Omega, with a floor at the scale of the starting state (a solution that
             // fell far below it is judged against that scale, not against its own tiny Omega).
@@ -514,7 +505,9 @@ impl StructureSolve<'_> {
         let x_up = up.place(&on_fourier(set, &solved.x))?;
         let sym_up = ray_symmetry(model, ch, &up, &x_up);
         if check == HarmonicCheck::Evaluate {
-            let e = omega_on_grid(model, ch, &up, &x_up, t, grid, &[], &sym_up, false)?;
+            let e = OmegaAt::new(model, ch, &up, &x_up, t)
+                .omega_only()
+                .on_grid(grid, &sym_up)?;
             return Ok(((e.omega - solved.eval.omega).abs(), 0.0, 0));
         }
         let s = self.iterate(&up, x_up.clone(), grid, &sym_up)?;
@@ -530,7 +523,7 @@ impl StructureSolve<'_> {
 /// Omega per spin channel (meV/nm^2) and its error estimate at equal first-harmonic amplitudes
 /// `amplitude` (meV) with phases `phases` (radians), higher harmonics zero, order `m`: no
 /// self-consistency. For comparing the small-amplitude expansion with the Landau coefficients.
-/// The value is from the finest grid of [`omega_multi`], the error its last grid change.
+/// The value is from the finest grid of [`OmegaAt::converged`], the error its last grid change.
 #[allow(clippy::too_many_arguments)]
 pub fn omega_at_amplitude(
     model: &Model,
@@ -556,6 +549,8 @@ pub fn omega_at_amplitude(
         .map(|(q, p)| (*q, Complex64::from_polar(amplitude, *p)))
         .collect();
     let x = set.place(&comps)?;
-    let e = omega_multi(model, ch, &set, &x, t, grid, &[], false)?;
+    let e = OmegaAt::new(model, ch, &set, &x, t)
+        .omega_only()
+        .converged(grid)?;
     Ok((e.omega, e.error.unwrap_or(f64::NAN)))
 }

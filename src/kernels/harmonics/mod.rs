@@ -80,8 +80,6 @@ pub mod set;
 pub mod symmetry;
 
 pub use eigen::hermitian_eigen;
-pub use omega::{
-    omega_components, omega_multi, omega_on_grid, omega_scale, HarmonicGrid, MultiOmega,
-};
+pub use omega::{omega_components, omega_scale, HarmonicGrid, MultiOmega, OmegaAt};
 pub use set::{HarmonicSet, Species};
 pub use symmetry::{ray_symmetry, RaySymmetry};

@@ -84,22 +84,123 @@ pub struct MultiOmega {
     pub diagonalisations: usize,
 }
 
-/// Omega, coherences and intraband components on one grid, with the given angular symmetry
-/// (use [`ray_symmetry`]; the caller vouches that it holds). No error estimate: for use inside
-/// iterations whose result is checked on a doubled grid ([`omega_multi`] does the check).
-/// With `derivatives = false` only Omega is computed (coherence, gradient and intraband empty).
-#[allow(clippy::too_many_arguments)]
-pub fn omega_on_grid(
-    model: &Model,
-    ch: usize,
-    set: &HarmonicSet,
-    deltas: &[Complex64],
-    t: f64,
+/// Where Omega of the multi-wavevector mean field is evaluated: channel `ch` of `model`, the
+/// components `deltas` (meV) on the Fourier set of `set`, k_B T = `t` (meV), the wavevectors Q
+/// (1/nm) of the requested intraband components, and whether the derivatives (coherences,
+/// gradient, intraband components) are wanted or Omega only.
+#[derive(Clone, Copy)]
+pub struct OmegaAt<'a> {
+    pub model: &'a Model,
+    pub ch: usize,
+    pub set: &'a HarmonicSet,
+    pub deltas: &'a [Complex64],
+    pub t: f64,
+    pub intraband: &'a [[f64; 2]],
+    pub derivatives: bool,
+}
+
+impl<'a> OmegaAt<'a> {
+    /// Omega with its derivatives and no intraband components.
+    pub fn new(
+        model: &'a Model,
+        ch: usize,
+        set: &'a HarmonicSet,
+        deltas: &'a [Complex64],
+        t: f64,
+    ) -> Self {
+        OmegaAt {
+            model,
+            ch,
+            set,
+            deltas,
+            t,
+            intraband: &[],
+            derivatives: true,
+        }
+    }
+
+    /// The same with the intraband components at the wavevectors `qs` (1/nm).
+    pub fn with_intraband(self, qs: &'a [[f64; 2]]) -> Self {
+        OmegaAt {
+            intraband: qs,
+            ..self
+        }
+    }
+
+    /// The same for Omega only (coherence, gradient and intraband left empty).
+    pub fn omega_only(self) -> Self {
+        OmegaAt {
+            derivatives: false,
+            ..self
+        }
+    }
+
+    /// Omega, coherences and intraband components on one grid, with the given angular symmetry
+    /// (use [`ray_symmetry`]; the caller vouches that it holds). No error estimate: for use
+    /// inside iterations whose result is checked on a doubled grid ([`OmegaAt::converged`] does
+    /// the check).
+    pub fn on_grid(
+        &self,
+        grid: &HarmonicGrid,
+        symmetry: &RaySymmetry,
+    ) -> Result<MultiOmega, NumericalError> {
+        on_grid(self, grid, symmetry)
+    }
+
+    /// Omega with its error estimate: evaluated on `grid` and on doubled grids until two
+    /// successive values agree to `grid.rtol` (relative to [`omega_scale`]), at most
+    /// `grid.max_doublings` times; otherwise `NotConverged`. Returns the finest evaluation, its
+    /// `error` the last change.
+    pub fn converged(&self, grid: &HarmonicGrid) -> Result<MultiOmega, NumericalError> {
+        let OmegaAt {
+            model,
+            ch,
+            set,
+            deltas,
+            ..
+        } = *self;
+        let sym = ray_symmetry(model, ch, set, deltas);
+        let g = model.channels.get(ch).map(|c| c.g).ok_or_else(|| {
+            NumericalError::Invalid(format!("channel index {ch} is out of range"))
+        })?;
+        let mut grid = *grid;
+        let mut prev = self.on_grid(&grid, &sym)?;
+        let mut change = f64::INFINITY;
+        for _ in 0..=grid.max_doublings {
+            grid = grid.doubled();
+            let next = self.on_grid(&grid, &sym)?;
+            change = (next.omega - prev.omega).abs();
+            let target = grid.rtol * omega_scale(next.omega, deltas, g);
+            prev = next;
+            if change <= target {
+                prev.error = Some(change);
+                return Ok(prev);
+            }
+        }
+        Err(NumericalError::NotConverged {
+            what: "multi-wavevector Omega over the k grid".into(),
+            iterations: grid.max_doublings + 1,
+            last_change: change,
+            target: grid.rtol * omega_scale(prev.omega, deltas, g),
+        })
+    }
+}
+
+/// The body of [`OmegaAt::on_grid`].
+fn on_grid(
+    at: &OmegaAt,
     grid: &HarmonicGrid,
-    intraband: &[[f64; 2]],
     symmetry: &RaySymmetry,
-    derivatives: bool,
 ) -> Result<MultiOmega, NumericalError> {
+    let OmegaAt {
+        model,
+        ch,
+        set,
+        deltas,
+        t,
+        intraband,
+        derivatives,
+    } = *at;
     let c = model
         .channels
         .get(ch)
@@ -418,63 +519,7 @@ pub fn omega_scale(omega: f64, deltas: &[Complex64], g: f64) -> f64 {
     omega.abs().max(1e-2 * quad).max(1e-300)
 }
 
-/// Omega with its error estimate: evaluated on `grid` and on doubled grids until two successive
-/// values agree to `grid.rtol` (relative to [`omega_scale`]), at most `grid.max_doublings` times;
-/// otherwise `NotConverged`. Returns the finest evaluation, its `error` the last change.
-/// `intraband`: the wavevectors Q (1/nm) of the requested intraband components; `derivatives`
-/// as in [`omega_on_grid`].
-#[allow(clippy::too_many_arguments)]
-pub fn omega_multi(
-    model: &Model,
-    ch: usize,
-    set: &HarmonicSet,
-    deltas: &[Complex64],
-    t: f64,
-    grid: &HarmonicGrid,
-    intraband: &[[f64; 2]],
-    derivatives: bool,
-) -> Result<MultiOmega, NumericalError> {
-    let sym = ray_symmetry(model, ch, set, deltas);
-    let g =
-        model.channels.get(ch).map(|c| c.g).ok_or_else(|| {
-            NumericalError::Invalid(format!("channel index {ch} is out of range"))
-        })?;
-    let on = |grid: &HarmonicGrid| {
-        omega_on_grid(
-            model,
-            ch,
-            set,
-            deltas,
-            t,
-            grid,
-            intraband,
-            &sym,
-            derivatives,
-        )
-    };
-    let mut grid = *grid;
-    let mut prev = on(&grid)?;
-    let mut change = f64::INFINITY;
-    for _ in 0..=grid.max_doublings {
-        grid = grid.doubled();
-        let next = on(&grid)?;
-        change = (next.omega - prev.omega).abs();
-        let target = grid.rtol * omega_scale(next.omega, deltas, g);
-        prev = next;
-        if change <= target {
-            prev.error = Some(change);
-            return Ok(prev);
-        }
-    }
-    Err(NumericalError::NotConverged {
-        what: "multi-wavevector Omega over the k grid".into(),
-        iterations: grid.max_doublings + 1,
-        last_change: change,
-        target: grid.rtol * omega_scale(prev.omega, deltas, g),
-    })
-}
-
-/// Convenience form of [`omega_multi`]: the structure's first harmonics `wavevectors`, order
+/// Convenience form of [`OmegaAt::converged`]: the structure's first harmonics `wavevectors`, order
 /// `m`, and the components as (G, Delta_G) pairs (G in the Fourier set, others zero); the
 /// intraband components at the differences q_i - q_j.
 pub fn omega_components(
@@ -489,5 +534,7 @@ pub fn omega_components(
     let set = HarmonicSet::new(wavevectors, m)?;
     let deltas = set.place(components)?;
     let qs = set.difference_wavevectors();
-    omega_multi(model, ch, &set, &deltas, t, grid, &qs, true)
+    OmegaAt::new(model, ch, &set, &deltas, t)
+        .with_intraband(&qs)
+        .converged(grid)
 }
