@@ -54,9 +54,13 @@ pub fn run(a: &ScanArgs) -> Result<Outcome, Failure> {
 
 /// One scan: the grid, the solver and method, the threads and where the files go.
 pub struct ScanJob<'a> {
+    /// The grid of swept values.
     pub grid: &'a Grid,
+    /// The Tc solver.
     pub solver: &'a TcSolver,
+    /// Exact integral or weak-coupling closed form.
     pub method: Method,
+    /// Worker threads (None: all cores).
     pub threads: Option<usize>,
     /// Output directory.
     pub out: &'a Path,

@@ -127,7 +127,9 @@ fn dd_contour(x: &[f64], t: f64) -> f64 {
 pub struct LoopValue {
     /// B per spin channel, meV^-3 nm^-2 (complex only with complex form factors).
     pub value: Complex64,
+    /// Absolute error estimate (the last change under ray doubling).
     pub error: f64,
+    /// Rays of the final angular rule.
     pub rays: usize,
 }
 

@@ -21,7 +21,9 @@ pub type Harmonic = ([f64; 2], Vec<(usize, usize)>);
 /// A set of wavevectors (1/nm) with a name.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Structure {
+    /// Name ("plane", "stripe", ..., or a user's "customN").
     pub name: String,
+    /// The first harmonics q_j, 1/nm.
     pub wavevectors: Vec<[f64; 2]>,
 }
 
@@ -64,6 +66,7 @@ impl Structure {
         self.wavevectors.len()
     }
 
+    /// Whether the structure has no wavevector.
     pub fn is_empty(&self) -> bool {
         self.wavevectors.is_empty()
     }

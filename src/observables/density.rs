@@ -15,6 +15,7 @@ pub struct DensityWave {
     pub order: u8,
     /// 1/nm, folded into the first zone when a [surface] lattice is given.
     pub wavevector_per_nm: [f64; 2],
+    /// Whether the wavevector was folded.
     pub folded_into_first_zone: bool,
     /// 2 pi / |P| (None for P = 0).
     pub period_nm: Option<f64>,

@@ -19,6 +19,7 @@ use crate::solvers::roots::brent_root;
 /// Tolerances of the ordered-state search.
 #[derive(Debug, Clone, Copy)]
 pub struct OrderedSolver {
+    /// Accuracy of the shell integrals.
     pub acc: Accuracy,
     /// Points of the Delta grid.
     pub grid_points: usize,
@@ -39,6 +40,7 @@ impl Default for OrderedSolver {
     }
 }
 
+/// Kind of an ordered-state solution.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum StateKind {
@@ -47,6 +49,7 @@ pub enum StateKind {
     Modulated,
 }
 
+/// Stability of a solution among all those at the same temperature.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Stability {
@@ -58,6 +61,7 @@ pub enum Stability {
 /// One stationary point of Omega.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct Solution {
+    /// Normal, uniform or modulated.
     pub state: StateKind,
     /// |Delta|, meV.
     pub delta: f64,
@@ -65,9 +69,11 @@ pub struct Solution {
     pub q: [f64; 2],
     /// Omega per spin channel relative to the normal state, meV/nm^2.
     pub omega: f64,
+    /// Estimated absolute error of `omega`, meV/nm^2.
     pub omega_error: f64,
     /// Whether Omega has a minimum in Delta here (before comparing minima).
     pub minimum: bool,
+    /// Stable (lowest minimum), metastable (another minimum) or unstable (a maximum).
     pub stability: Stability,
 }
 
@@ -76,6 +82,7 @@ pub struct Solution {
 pub struct OrderedStates {
     /// k_B T, meV.
     pub t: f64,
+    /// Every solution found, the normal state first.
     pub solutions: Vec<Solution>,
     /// Index of the chosen solution (lowest Omega among minima; the normal state when none
     /// is lower).
@@ -83,6 +90,7 @@ pub struct OrderedStates {
 }
 
 impl OrderedStates {
+    /// The chosen solution.
     pub fn chosen(&self) -> &Solution {
         &self.solutions[self.chosen]
     }
@@ -413,6 +421,7 @@ pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
 /// Two uniform channels that share a pocket, ordered together (physics.md section 4).
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct CoupledChannels {
+    /// Labels of the two channels.
     pub channels: [String; 2],
     /// Gaps (meV) at the lowest Omega found over (Delta_1, Delta_2) >= 0.
     pub deltas: [f64; 2],

@@ -40,14 +40,17 @@ pub enum HarmonicCheck {
 pub struct PatternOptions {
     /// Harmonic truncation order m (window steps), >= 1.
     pub order: usize,
+    /// The k grid of the first solve (refined when the doubling check asks for it).
     pub grid: HarmonicGrid,
     /// Stop when max_G |Delta_new - Delta| <= tol max_G |Delta|.
     pub tol: f64,
+    /// Most fixed-point iterations before `NotConverged`.
     pub max_iterations: usize,
     /// Anderson memory (0: plain mixing).
     pub memory: usize,
     /// Mixing factor of the Anderson step (1: undamped).
     pub mixing: f64,
+    /// How the harmonic truncation is checked at order m + 1.
     pub harmonic_check: HarmonicCheck,
 }
 
@@ -70,6 +73,7 @@ impl Default for PatternOptions {
 pub struct PatternState {
     /// First harmonics q_j (1/nm) and their starting phases (radians).
     pub wavevectors: Vec<[f64; 2]>,
+    /// Starting phases of the first harmonics, radians.
     pub phases: Vec<f64>,
     /// k_B T, meV.
     pub t: f64,

@@ -22,12 +22,19 @@ use std::f64::consts::PI;
 /// as not converged.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct HarmonicGrid {
+    /// Rays over the full circle.
     pub rays: usize,
+    /// Least number of uniform panels over the core of a ray.
     pub radial_panels: usize,
+    /// Widest core panel, in units of T.
     pub panel_temperatures: f64,
+    /// Gauss-Legendre nodes per panel.
     pub order: usize,
+    /// Growth of the panels outside the core (times their distance from it).
     pub growth: f64,
+    /// Relative target of the grid-doubling check.
     pub rtol: f64,
+    /// Most grid doublings before `NotConverged`.
     pub max_doublings: usize,
 }
 
@@ -90,12 +97,19 @@ pub struct MultiOmega {
 /// gradient, intraband components) are wanted or Omega only.
 #[derive(Clone, Copy)]
 pub struct OmegaAt<'a> {
+    /// The model.
     pub model: &'a Model,
+    /// Index of the channel.
     pub ch: usize,
+    /// The harmonic truncation.
     pub set: &'a HarmonicSet,
+    /// Delta_G on the Fourier set, meV.
     pub deltas: &'a [Complex64],
+    /// k_B T, meV.
     pub t: f64,
+    /// Wavevectors Q (1/nm) of the requested intraband components.
     pub intraband: &'a [[f64; 2]],
+    /// Whether the coherences, gradient and intraband components are wanted.
     pub derivatives: bool,
 }
 

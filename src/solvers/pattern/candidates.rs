@@ -15,6 +15,7 @@ pub struct StateCandidate {
     pub name: String,
     /// Omega relative to the normal state, total over spin channels, meV/nm^2.
     pub omega: f64,
+    /// Estimated absolute error of `omega`, meV/nm^2.
     pub omega_error: f64,
     /// Fourier components (G in 1/nm, Delta_G in meV) of Delta(r); the first harmonics first.
     pub components: Vec<([f64; 2], num_complex::Complex64)>,

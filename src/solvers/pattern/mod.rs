@@ -55,6 +55,7 @@ pub struct LinePoint {
 /// Settings of the pattern searches.
 #[derive(Debug, Clone, Copy)]
 pub struct PatternSolver {
+    /// The Tc solver: its accuracy is that of chi on the line.
     pub tc: TcSolver,
     /// Accuracy of the four-insertion loops.
     pub loop_acc: Accuracy,
@@ -250,6 +251,7 @@ impl PatternSolver {
 /// One structure's place in the ranking.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct RankedStructure {
+    /// The structure's name.
     pub name: String,
     /// 1/nm.
     pub wavevectors: Vec<[f64; 2]>,
@@ -262,6 +264,7 @@ pub struct RankedStructure {
     /// F4/(n^2 |Delta|^4) with the best relative phases, meV^-3 nm^-2 per spin channel (the plane
     /// wave's is beta/2).
     pub quartic: f64,
+    /// Absolute error estimate of `quartic` (loop errors and the imaginary remainder), same units.
     pub quartic_error: f64,
     /// Best relative phases of the components, radians (the first is 0).
     pub phases: Vec<f64>,
