@@ -65,8 +65,9 @@ fn matsubara_first(t: f64, h: f64, q: [[f64; 2]; 4], m: usize) -> f64 {
     PI * t / 4.0 * sum / m as f64
 }
 
-/// Q = 0: B = beta/2 with beta = -Re psi''(1/2 + i h/(2 pi t))/(16 pi^2 t^2) (physics.md
-/// section 5), and at h = 0 7 zeta(3)/(16 pi^2 t^2) (Gor'kov's coefficient, halved).
+/// Q = 0: B = beta/2 with beta = -Re psi''(1/2 + i h/(2 pi t))/(16 pi^2 t^2) (see the crate
+/// docs (`crate::theory`)), and at h = 0 7 zeta(3)/(16 pi^2 t^2) (Gor'kov's coefficient,
+/// halved).
 #[test]
 fn uniform_limit() {
     for &(t, h) in &[(0.7, 0.0), (0.5, 1.1), (0.1, 1.5), (0.02, 0.3)] {
