@@ -5,8 +5,10 @@ use crate::cli::Failure;
 use clap::Args;
 use nestor::reports::tables;
 
+/// Options of `nestor check`.
 #[derive(Args, Debug)]
 pub struct CheckArgs {
+    /// The configuration and its overrides.
     #[command(flatten)]
     pub cfg: ConfigArgs,
     /// Print JSON instead of a table.

@@ -26,6 +26,7 @@ const DEMO_PATTERN_OFFSET: f64 = 184.6;
 /// The demo scan range of the Dirac point of pocket G, meV.
 const DEMO_SCAN: (f64, f64) = (184.0, 190.0);
 
+/// Options of `nestor demo`.
 #[derive(Args, Debug)]
 pub struct DemoArgs {
     /// Output directory for tables and figures.

@@ -22,8 +22,10 @@ use nestor::solvers::pattern::{
 };
 use std::path::PathBuf;
 
+/// Options of `nestor pattern`.
 #[derive(Args, Debug)]
 pub struct PatternArgs {
+    /// The configuration and its overrides.
     #[command(flatten)]
     pub cfg: ConfigArgs,
     /// Temperature in K (> 0).

@@ -17,8 +17,10 @@ use nestor::sweeps::Grid;
 use std::io::IsTerminal;
 use std::path::PathBuf;
 
+/// Options of `nestor phases`.
 #[derive(Args, Debug)]
 pub struct PhasesArgs {
+    /// The configuration and its overrides.
     #[command(flatten)]
     pub cfg: ConfigArgs,
     /// The parameter axis, PATH=FROM:TO:N.

@@ -12,8 +12,10 @@ use nestor::sweeps::{tc_scan::scan_tc, Grid};
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
+/// Options of `nestor scan`.
 #[derive(Args, Debug)]
 pub struct ScanArgs {
+    /// The configuration and its overrides.
     #[command(flatten)]
     pub cfg: ConfigArgs,
     /// Swept parameter PATH=FROM:TO:N (once for a curve, twice for a map), e.g.
@@ -26,6 +28,7 @@ pub struct ScanArgs {
     /// Worker threads (default: all cores). Results do not depend on it.
     #[arg(long)]
     pub threads: Option<usize>,
+    /// The Tc solver options.
     #[command(flatten)]
     pub solve: SolveOpts,
 }

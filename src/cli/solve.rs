@@ -12,8 +12,10 @@ use nestor::solvers::canonical::canonical_state;
 use nestor::solvers::defaults::{fixed_density_window, pocket_sharing_pairs};
 use nestor::solvers::ordered::{coupled_uniform, plane_wave_q_scale, OrderedSolver};
 
+/// Options of `nestor solve`.
 #[derive(Args, Debug)]
 pub struct SolveStateArgs {
+    /// The configuration and its overrides.
     #[command(flatten)]
     pub cfg: ConfigArgs,
     /// Temperature in K (0 allowed).

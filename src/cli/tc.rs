@@ -8,10 +8,13 @@ use nestor::reports::tables;
 use nestor::solvers::tc_channel::{channel_tc, ChannelTc, Method};
 use nestor::solvers::TcSolver;
 
+/// Options of `nestor tc`.
 #[derive(Args, Debug)]
 pub struct TcArgs {
+    /// The configuration and its overrides.
     #[command(flatten)]
     pub cfg: ConfigArgs,
+    /// The Tc solver options.
     #[command(flatten)]
     pub solve: SolveOpts,
     /// Print JSON instead of a table.
