@@ -206,15 +206,8 @@ fn on_grid(
     grid: &HarmonicGrid,
     symmetry: &RaySymmetry,
 ) -> Result<MultiOmega, NumericalError> {
-    let OmegaAt {
-        model,
-        ch,
-        set,
-        deltas,
-        t,
-        intraband,
-        derivatives,
-    } = *at;
+    let (model, ch, set, deltas, t) = (at.model, at.ch, at.set, at.deltas, at.t);
+    let (intraband, derivatives) = (at.intraband, at.derivatives);
     let c = model
         .channels
         .get(ch)
