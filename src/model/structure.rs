@@ -73,10 +73,7 @@ impl Structure {
 
     /// The longest wavevector, 1/nm.
     pub fn q_max(&self) -> f64 {
-        self.wavevectors
-            .iter()
-            .map(|q| q[0].hypot(q[1]))
-            .fold(0.0, f64::max)
+        longest(&self.wavevectors)
     }
 
     /// The ordered quadruples with q_j1 - q_j2 + q_j3 - q_j4 = 0, each once.
@@ -132,6 +129,11 @@ impl Structure {
 /// The phase combination phi_j1 - phi_j2 + phi_j3 - phi_j4 of a quadruple.
 pub fn quadruple_phase(phases: &[f64], j: [usize; 4]) -> f64 {
     phases[j[0]] - phases[j[1]] + phases[j[2]] - phases[j[3]]
+}
+
+/// The largest |q| of a list of wavevectors (1/nm; 0 for none).
+pub fn longest(qs: &[[f64; 2]]) -> f64 {
+    qs.iter().map(|q| q[0].hypot(q[1])).fold(0.0, f64::max)
 }
 
 /// Real-space average of |sum_j exp(i q_j.r)|^4 over a large square of side `side` (nm), on an

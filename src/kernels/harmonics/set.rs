@@ -3,6 +3,7 @@
 //! stage of the harmonic kernel: the ray evaluator and Omega work on these windows.
 
 use crate::error::NumericalError;
+use crate::model::structure::longest;
 use num_complex::Complex64;
 
 /// Which pocket of the channel a state belongs to.
@@ -136,10 +137,7 @@ impl HarmonicSet {
         {
             return Err(NumericalError::Invalid("wavevectors must be finite".into()));
         }
-        let qmax = wavevectors
-            .iter()
-            .map(|q| q[0].hypot(q[1]))
-            .fold(0.0, f64::max);
+        let qmax = longest(wavevectors);
         let tol = 1e-9 * qmax + 1e-15;
         for (i, q) in wavevectors.iter().enumerate() {
             if wavevectors[..i].iter().any(|p| same(*p, *q, tol)) {
@@ -209,10 +207,7 @@ impl HarmonicSet {
 
     /// Longest first harmonic, 1/nm.
     pub fn q_max(&self) -> f64 {
-        self.wavevectors
-            .iter()
-            .map(|q| q[0].hypot(q[1]))
-            .fold(0.0, f64::max)
+        longest(&self.wavevectors)
     }
 
     /// The distinct differences q_i - q_j != 0 of the first harmonics (the wavevectors of the
