@@ -75,6 +75,7 @@ pub mod config;
 pub mod error;
 pub mod kernels;
 pub mod model;
+pub mod observables;
 pub mod reports;
 pub mod solvers;
 pub mod special;

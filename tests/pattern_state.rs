@@ -13,8 +13,7 @@ mod common;
 use common::{model, nested_pair, nested_pair_fixed_g, tol};
 use nestor::kernels::grand_potential::grand_potential;
 use nestor::kernels::harmonics::{
-    omega_components, omega_multi, omega_on_grid, ray_symmetry, HarmonicGrid, HarmonicSet,
-    RaySymmetry,
+    omega_components, ray_symmetry, HarmonicGrid, HarmonicSet, OmegaAt, RaySymmetry,
 };
 use nestor::kernels::{weak, Accuracy, Shell};
 use nestor::model::structure::Structure;
@@ -203,7 +202,11 @@ fn coherence_is_the_gradient_of_omega() {
     };
     let sym = ray_symmetry(&m, 0, &set, &x);
     assert_eq!(sym, RaySymmetry::Full);
-    let at = |x: &[Complex64]| omega_on_grid(&m, 0, &set, x, t, &grid, &[], &sym, true).unwrap();
+    let at = |x: &[Complex64]| {
+        OmegaAt::new(&m, 0, &set, x, t)
+            .on_grid(&grid, &sym)
+            .unwrap()
+    };
     let base = at(&x);
     let scale = base.gradient[0].norm();
     let step = 1e-4 * tc0();
@@ -251,7 +254,9 @@ fn truncation_is_exact_through_order_2m() {
             ])
             .unwrap();
         let sym = ray_symmetry(&m, 0, &set, &x);
-        omega_on_grid(&m, 0, &set, &x, t, &grid, &[], &sym, false)
+        OmegaAt::new(&m, 0, &set, &x, t)
+            .omega_only()
+            .on_grid(&grid, &sym)
             .unwrap()
             .omega
     };
@@ -290,8 +295,14 @@ fn sector_rule_equals_the_full_circle() {
         ..HarmonicGrid::default()
     };
     let qd = set.difference_wavevectors();
-    let sector = omega_on_grid(&m, 0, &set, &x, t, &grid, &qd, &sym, true).unwrap();
-    let full = omega_on_grid(&m, 0, &set, &x, t, &grid, &qd, &RaySymmetry::Full, true).unwrap();
+    let sector = OmegaAt::new(&m, 0, &set, &x, t)
+        .with_intraband(&qd)
+        .on_grid(&grid, &sym)
+        .unwrap();
+    let full = OmegaAt::new(&m, 0, &set, &x, t)
+        .with_intraband(&qd)
+        .on_grid(&grid, &RaySymmetry::Full)
+        .unwrap();
     assert!((sector.omega / full.omega - 1.0).abs() < 1e-11);
     let cs = full.coherence[0].norm();
     for (a, b) in sector.coherence.iter().zip(&full.coherence) {
@@ -331,7 +342,9 @@ fn independent_of_the_thread_count() {
             .build()
             .unwrap()
             .install(|| {
-                omega_on_grid(&m, 0, &set, &x, t, &grid, &[], &RaySymmetry::Full, true).unwrap()
+                OmegaAt::new(&m, 0, &set, &x, t)
+                    .on_grid(&grid, &RaySymmetry::Full)
+                    .unwrap()
             })
     };
     let (one, two) = (run(1), run(2));
@@ -352,7 +365,9 @@ fn grid_changes(m: &Model, qs: &[[f64; 2]], s3: &PatternState, t: f64) -> (f64, 
         ..HarmonicGrid::default()
     };
     let on = |gr: &HarmonicGrid| {
-        omega_on_grid(m, 0, &set3, &x3, t, gr, &[], &sym3, false)
+        OmegaAt::new(m, 0, &set3, &x3, t)
+            .omega_only()
+            .on_grid(gr, &sym3)
             .unwrap()
             .omega
     };
@@ -420,7 +435,9 @@ fn stripe_is_stationary_and_converges() {
     let sym = ray_symmetry(&m, 0, &set, &x);
     let om = |lam: f64| {
         let y: Vec<Complex64> = x.iter().map(|d| d * lam).collect();
-        omega_on_grid(&m, 0, &set, &y, t, &s2.grid, &[], &sym, false)
+        OmegaAt::new(&m, 0, &set, &y, t)
+            .omega_only()
+            .on_grid(&s2.grid, &sym)
             .unwrap()
             .omega
     };
@@ -477,12 +494,15 @@ fn intraband_components_are_second_order() {
         omega_at_amplitude(&m, 0, &s.wavevectors, &[0.0; 4], a, t, 2, &grid).unwrap();
     assert!((value / big.omega - 1.0).abs() < 1e-9);
     assert!(error <= 1e-4 * value.abs());
-    // The same through omega_multi with an explicit set.
+    // The same through OmegaAt::converged with an explicit set.
     let set = HarmonicSet::new(&s.wavevectors, 2).unwrap();
     let x = set
         .place(&[(s.wavevectors[0], Complex64::new(a, 0.0))])
         .unwrap();
-    let one = omega_multi(&m, 0, &set, &x, t, &grid, &[], false).unwrap();
+    let one = OmegaAt::new(&m, 0, &set, &x, t)
+        .omega_only()
+        .converged(&grid)
+        .unwrap();
     assert!(one.omega.is_finite() && one.error.is_some());
 }
 

@@ -1,5 +1,5 @@
 //! Quartic Landau coefficient of a multi-wavevector structure from the fermion loop with four
-//! insertions (physics.md section 5), with the real dispersions of one channel.
+//! insertions (see the crate docs (`crate::theory`)), with the real dispersions of one channel.
 //!
 //! For Delta(r) = sum_j Delta_j exp(i q_j.r) the quartic term of Omega per area and spin channel is
 //!   F4 = sum_{(j1,j2,j3,j4): q_j1 - q_j2 + q_j3 - q_j4 = 0} Delta_j1 Delta_j2^* Delta_j3 Delta_j4^* B,
@@ -20,9 +20,9 @@ use crate::error::NumericalError;
 use crate::kernels::grand_potential::fermi;
 use crate::kernels::integrate::Accuracy;
 use crate::kernels::quad::{graded_breakpoints, Feature, PanelRule};
-use crate::kernels::shell::Shell;
+use crate::kernels::shell::{Ray, Shell};
 use crate::model::structure::Structure;
-use crate::model::{band_matrix_element, Channel, Model, Spin};
+use crate::model::{band_matrix_element, Channel, Model, Pocket, Spin};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -127,7 +127,9 @@ fn dd_contour(x: &[f64], t: f64) -> f64 {
 pub struct LoopValue {
     /// B per spin channel, meV^-3 nm^-2 (complex only with complex form factors).
     pub value: Complex64,
+    /// Absolute error estimate (the last change under ray doubling).
     pub error: f64,
+    /// Rays of the final angular rule.
     pub rays: usize,
 }
 
@@ -140,135 +142,28 @@ pub fn quadruple_loop(
     t: f64,
     acc: &Accuracy,
 ) -> Result<LoopValue, NumericalError> {
-    if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
-        return Err(NumericalError::Invalid(format!(
-            "the quartic coefficient needs T > 0 (got {t} meV)"
-        )));
-    }
-    let scale = q
-        .iter()
-        .map(|v| v[0].hypot(v[1]))
-        .fold(0.0, f64::max)
-        .max(1e-12);
-    let miss = [
-        q[0][0] - q[1][0] + q[2][0] - q[3][0],
-        q[0][1] - q[1][1] + q[2][1] - q[3][1],
-    ];
-    if miss[0].hypot(miss[1]) > 1e-9 * scale {
-        return Err(NumericalError::Invalid(
-            "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
-        ));
-    }
+    check_loop(&q, t)?;
     let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
-    let shell = Shell::new(a, b, ch.form, ch.cutoff, q[0])?;
-    let lambda = ch.cutoff;
-    let s2 = [q[0][0] - q[1][0], q[0][1] - q[1][1]];
-    let q4 = q[3];
-    let q1 = q[0];
-    let width = t * acc.feature_width;
-    let rule = PanelRule::new(acc.order);
-    let add = |k: [f64; 2], s: [f64; 2]| [k[0] + s[0], k[1] + s[1]];
-    let helical = matches!(
-        (a.spin, b.spin),
-        (Spin::Helical { .. }, Spin::Helical { .. })
-    );
-    // Value along the ray of every quantity that has a feature: the two further Fermi crossings
-    // and the three further shell edges.
-    let fields = |k: [f64; 2]| -> [f64; 5] {
-        let ka = add(k, q1);
-        let kb2 = add(k, s2);
-        let ka4 = add(k, q4);
-        let (ea1, eb2, ea4, eb0) = (a.energy(ka), b.energy(kb2), a.energy(ka4), b.energy(k));
-        [
-            eb2,
-            ea4,
-            0.5 * (ea1 - eb2).abs() - lambda,
-            0.5 * (ea4 - eb2).abs() - lambda,
-            0.5 * (ea4 - eb0).abs() - lambda,
-        ]
+    let lp = LoopRays {
+        a,
+        b,
+        ch,
+        shell: Shell::new(a, b, ch.form, ch.cutoff, q[0])?,
+        lambda: ch.cutoff,
+        q1: q[0],
+        s2: [q[0][0] - q[1][0], q[0][1] - q[1][1]],
+        q4: q[3],
+        t,
+        width: t * acc.feature_width,
+        rule: PanelRule::new(acc.order),
+        helical: matches!(
+            (a.spin, b.spin),
+            (Spin::Helical { .. }, Spin::Helical { .. })
+        ),
+        acc,
     };
-    let mut breaks = Vec::new();
-    let mut extra = Vec::new();
-    let mut all = Vec::new();
-    let mut ray_value = |theta: f64| -> Result<Complex64, NumericalError> {
-        let ray = shell.ray(theta, width, &[], acc.growth, &mut breaks)?;
-        let u = ray.u;
-        let at = |r: f64| shell.point_on_ray(u, r);
-        // Sign changes of the feature fields on a uniform sampling, refined by bisection.
-        const SAMPLES: usize = 48;
-        let mut feats: Vec<Feature> = Vec::new();
-        let mut edges: Vec<f64> = Vec::new();
-        let span = ray.r_hi - ray.r_lo;
-        let mut prev = fields(at(ray.r_lo));
-        let mut r_prev = ray.r_lo;
-        for i in 1..=SAMPLES {
-            let r = ray.r_lo + span * i as f64 / SAMPLES as f64;
-            let cur = fields(at(r));
-            for f in 0..5 {
-                if (prev[f] > 0.0) != (cur[f] > 0.0) {
-                    let (mut lo, mut hi, mut flo) = (r_prev, r, prev[f]);
-                    for _ in 0..60 {
-                        let mid = 0.5 * (lo + hi);
-                        let fm = fields(at(mid))[f];
-                        if (fm > 0.0) == (flo > 0.0) {
-                            lo = mid;
-                            flo = fm;
-                        } else {
-                            hi = mid;
-                        }
-                        if hi - lo <= 1e-14 * hi.abs().max(1e-12) {
-                            break;
-                        }
-                    }
-                    let root = 0.5 * (lo + hi);
-                    if f < 2 {
-                        // Slope of the energy along the ray, for the feature width.
-                        let dr = 1e-6 * span.max(1e-12);
-                        let d = (fields(at(root + dr))[f] - fields(at(root - dr))[f]) / (2.0 * dr);
-                        feats.push(Feature {
-                            at: root,
-                            scale: width / d.abs().max(1e-300),
-                        });
-                    } else {
-                        edges.push(root);
-                    }
-                }
-            }
-            prev = cur;
-            r_prev = r;
-        }
-        graded_breakpoints(ray.r_lo, ray.r_hi, &feats, acc.growth, &mut extra);
-        all.clear();
-        all.extend_from_slice(&breaks);
-        all.extend_from_slice(&extra);
-        all.extend_from_slice(&edges);
-        all.sort_by(f64::total_cmp);
-        all.dedup_by(|x, y| (*x - *y).abs() <= 1e-14 * y.abs().max(1e-300));
-        let mut sum = Complex64::new(0.0, 0.0);
-        for w in all.windows(2) {
-            rule.for_each_node(w[0], w[1], |r, wr| {
-                let k = at(r);
-                let ka = add(k, q1);
-                let kb2 = add(k, s2);
-                let ka4 = add(k, q4);
-                let e = [b.energy(k), a.energy(ka), b.energy(kb2), a.energy(ka4)];
-                if 0.5 * (e[1] - e[0]).abs() >= lambda
-                    || 0.5 * (e[1] - e[2]).abs() >= lambda
-                    || 0.5 * (e[3] - e[2]).abs() >= lambda
-                    || 0.5 * (e[3] - e[0]).abs() >= lambda
-                {
-                    return;
-                }
-                let mut v = Complex64::new(0.5 * fermi_divided_difference(&e, t), 0.0);
-                if helical {
-                    let m = |pa, pb| band_matrix_element(a, b, ch.spin_matrix, pa, pb);
-                    v *= m(ka, k) * m(ka, kb2).conj() * m(ka4, kb2) * m(ka4, k).conj();
-                }
-                sum += v * (r * wr);
-            });
-        }
-        Ok(sum)
-    };
+    let mut buf = RayBuffers::default();
+    let mut ray_value = |theta: f64| lp.value(theta, &mut buf);
     // Periodic trapezoid over the full circle, doubling until converged.
     let norm = 1.0 / (4.0 * PI * PI);
     let mut n = acc.min_rays.max(16);
@@ -304,6 +199,187 @@ pub fn quadruple_loop(
                 rays: n,
             });
         }
+    }
+}
+
+/// T (meV) must be positive and the wavevectors (1/nm) conserve momentum, q1 - q2 + q3 - q4 = 0
+/// to 1e-9 of the largest.
+fn check_loop(q: &[[f64; 2]; 4], t: f64) -> Result<(), NumericalError> {
+    if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
+        return Err(NumericalError::Invalid(format!(
+            "the quartic coefficient needs T > 0 (got {t} meV)"
+        )));
+    }
+    let scale = q
+        .iter()
+        .map(|v| v[0].hypot(v[1]))
+        .fold(0.0, f64::max)
+        .max(1e-12);
+    let miss = [
+        q[0][0] - q[1][0] + q[2][0] - q[3][0],
+        q[0][1] - q[1][1] + q[2][1] - q[3][1],
+    ];
+    if miss[0].hypot(miss[1]) > 1e-9 * scale {
+        return Err(NumericalError::Invalid(
+            "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
+        ));
+    }
+    Ok(())
+}
+
+/// The rays of one four-insertion loop: the channel, the shell of the first vertex (polar
+/// centre), the loop's momentum shifts (1/nm) and the radial rule.
+struct LoopRays<'m> {
+    a: &'m Pocket,
+    b: &'m Pocket,
+    ch: &'m Channel,
+    shell: Shell<'m>,
+    /// The vertex cutoff, meV.
+    lambda: f64,
+    q1: [f64; 2],
+    /// q1 - q2.
+    s2: [f64; 2],
+    q4: [f64; 2],
+    /// k_B T, meV.
+    t: f64,
+    /// Feature width in energy, meV.
+    width: f64,
+    rule: PanelRule,
+    /// Both pockets helical: the band form factors enter.
+    helical: bool,
+    acc: &'m Accuracy,
+}
+
+/// Breakpoint buffers reused from ray to ray.
+#[derive(Default)]
+struct RayBuffers {
+    breaks: Vec<f64>,
+    extra: Vec<f64>,
+    all: Vec<f64>,
+}
+
+fn add(k: [f64; 2], s: [f64; 2]) -> [f64; 2] {
+    [k[0] + s[0], k[1] + s[1]]
+}
+
+impl LoopRays<'_> {
+    /// Value along the ray of every quantity that has a feature: the two further Fermi crossings
+    /// and the three further shell edges (meV).
+    fn fields(&self, k: [f64; 2]) -> [f64; 5] {
+        let (a, b, lambda) = (self.a, self.b, self.lambda);
+        let ka = add(k, self.q1);
+        let kb2 = add(k, self.s2);
+        let ka4 = add(k, self.q4);
+        let (ea1, eb2, ea4, eb0) = (a.energy(ka), b.energy(kb2), a.energy(ka4), b.energy(k));
+        [
+            eb2,
+            ea4,
+            0.5 * (ea1 - eb2).abs() - lambda,
+            0.5 * (ea4 - eb2).abs() - lambda,
+            0.5 * (ea4 - eb0).abs() - lambda,
+        ]
+    }
+
+    /// The ray integral at angle theta (before the angular weight).
+    fn value(&self, theta: f64, buf: &mut RayBuffers) -> Result<Complex64, NumericalError> {
+        let acc = self.acc;
+        let ray = self
+            .shell
+            .ray(theta, self.width, &[], acc.growth, &mut buf.breaks)?;
+        let (feats, edges) = self.features(&ray);
+        graded_breakpoints(ray.r_lo, ray.r_hi, &feats, acc.growth, &mut buf.extra);
+        let all = &mut buf.all;
+        all.clear();
+        all.extend_from_slice(&buf.breaks);
+        all.extend_from_slice(&buf.extra);
+        all.extend_from_slice(&edges);
+        all.sort_by(f64::total_cmp);
+        all.dedup_by(|x, y| (*x - *y).abs() <= 1e-14 * y.abs().max(1e-300));
+        let mut sum = Complex64::new(0.0, 0.0);
+        for w in all.windows(2) {
+            self.rule.for_each_node(w[0], w[1], |r, wr| {
+                if let Some(v) = self.integrand(self.shell.point_on_ray(ray.u, r)) {
+                    sum += v * (r * wr);
+                }
+            });
+        }
+        Ok(sum)
+    }
+
+    /// The Fermi crossings (as graded features) and the shell edges along the ray: sign changes
+    /// of the feature fields on a uniform sampling, refined by bisection.
+    fn features(&self, ray: &Ray) -> (Vec<Feature>, Vec<f64>) {
+        const SAMPLES: usize = 48;
+        let at = |r: f64| self.shell.point_on_ray(ray.u, r);
+        let mut feats: Vec<Feature> = Vec::new();
+        let mut edges: Vec<f64> = Vec::new();
+        let span = ray.r_hi - ray.r_lo;
+        let mut prev = self.fields(at(ray.r_lo));
+        let mut r_prev = ray.r_lo;
+        for i in 1..=SAMPLES {
+            let r = ray.r_lo + span * i as f64 / SAMPLES as f64;
+            let cur = self.fields(at(r));
+            for f in 0..5 {
+                if (prev[f] > 0.0) != (cur[f] > 0.0) {
+                    let root = self.bisect(ray, f, r_prev, r, prev[f]);
+                    if f < 2 {
+                        // Slope of the energy along the ray, for the feature width.
+                        let dr = 1e-6 * span.max(1e-12);
+                        let d = (self.fields(at(root + dr))[f] - self.fields(at(root - dr))[f])
+                            / (2.0 * dr);
+                        feats.push(Feature {
+                            at: root,
+                            scale: self.width / d.abs().max(1e-300),
+                        });
+                    } else {
+                        edges.push(root);
+                    }
+                }
+            }
+            prev = cur;
+            r_prev = r;
+        }
+        (feats, edges)
+    }
+
+    /// The sign change of field f in [lo, hi] (value `flo` at lo) by bisection.
+    fn bisect(&self, ray: &Ray, f: usize, mut lo: f64, mut hi: f64, mut flo: f64) -> f64 {
+        for _ in 0..60 {
+            let mid = 0.5 * (lo + hi);
+            let fm = self.fields(self.shell.point_on_ray(ray.u, mid))[f];
+            if (fm > 0.0) == (flo > 0.0) {
+                lo = mid;
+                flo = fm;
+            } else {
+                hi = mid;
+            }
+            if hi - lo <= 1e-14 * hi.abs().max(1e-12) {
+                break;
+            }
+        }
+        0.5 * (lo + hi)
+    }
+
+    /// (1/2) f[e1, e2, e3, e4] M1 M2^* M3 M4^* at k, or None outside any vertex's shell.
+    fn integrand(&self, k: [f64; 2]) -> Option<Complex64> {
+        let (a, b, lambda) = (self.a, self.b, self.lambda);
+        let ka = add(k, self.q1);
+        let kb2 = add(k, self.s2);
+        let ka4 = add(k, self.q4);
+        let e = [b.energy(k), a.energy(ka), b.energy(kb2), a.energy(ka4)];
+        if 0.5 * (e[1] - e[0]).abs() >= lambda
+            || 0.5 * (e[1] - e[2]).abs() >= lambda
+            || 0.5 * (e[3] - e[2]).abs() >= lambda
+            || 0.5 * (e[3] - e[0]).abs() >= lambda
+        {
+            return None;
+        }
+        let mut v = Complex64::new(0.5 * fermi_divided_difference(&e, self.t), 0.0);
+        if self.helical {
+            let m = |pa, pb| band_matrix_element(a, b, self.ch.spin_matrix, pa, pb);
+            v *= m(ka, k) * m(ka, kb2).conj() * m(ka4, kb2) * m(ka4, k).conj();
+        }
+        Some(v)
     }
 }
 

@@ -21,7 +21,9 @@ pub type Harmonic = ([f64; 2], Vec<(usize, usize)>);
 /// A set of wavevectors (1/nm) with a name.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Structure {
+    /// Name ("plane", "stripe", ..., or a user's "customN").
     pub name: String,
+    /// The first harmonics q_j, 1/nm.
     pub wavevectors: Vec<[f64; 2]>,
 }
 
@@ -64,16 +66,14 @@ impl Structure {
         self.wavevectors.len()
     }
 
+    /// Whether the structure has no wavevector.
     pub fn is_empty(&self) -> bool {
         self.wavevectors.is_empty()
     }
 
     /// The longest wavevector, 1/nm.
     pub fn q_max(&self) -> f64 {
-        self.wavevectors
-            .iter()
-            .map(|q| q[0].hypot(q[1]))
-            .fold(0.0, f64::max)
+        longest(&self.wavevectors)
     }
 
     /// The ordered quadruples with q_j1 - q_j2 + q_j3 - q_j4 = 0, each once.
@@ -131,15 +131,25 @@ pub fn quadruple_phase(phases: &[f64], j: [usize; 4]) -> f64 {
     phases[j[0]] - phases[j[1]] + phases[j[2]] - phases[j[3]]
 }
 
+/// The largest |q| of a list of wavevectors (1/nm; 0 for none).
+pub fn longest(qs: &[[f64; 2]]) -> f64 {
+    qs.iter().map(|q| q[0].hypot(q[1])).fold(0.0, f64::max)
+}
+
 /// Real-space average of |sum_j exp(i q_j.r)|^4 over a large square of side `side` (nm), on an
 /// `n x n` grid: equals the number of quadruples for incommensurate-free sets once `side` spans
 /// many periods. Used as an independent count in the tests.
 pub fn real_space_fourth_moment(qs: &[[f64; 2]], side: f64, n: usize) -> f64 {
+    fourth_moment_on_rectangle(qs, side, side, n)
+}
+
+/// As [`real_space_fourth_moment`] over a rectangle of sides `lx` x `ly` (nm) on an `n x n` grid.
+pub fn fourth_moment_on_rectangle(qs: &[[f64; 2]], lx: f64, ly: f64, n: usize) -> f64 {
     let mut sum = 0.0;
     for iy in 0..n {
         for ix in 0..n {
-            let x = side * (ix as f64 + 0.5) / n as f64;
-            let y = side * (iy as f64 + 0.5) / n as f64;
+            let x = lx * (ix as f64 + 0.5) / n as f64;
+            let y = ly * (iy as f64 + 0.5) / n as f64;
             let (mut re, mut im) = (0.0, 0.0);
             for q in qs {
                 let (s, c) = (q[0] * x + q[1] * y).sin_cos();
@@ -178,22 +188,7 @@ mod tests {
         for name in ["triangle", "hexagon"] {
             let s = Structure::named(name, [2.0 * TURN, 0.0]).unwrap();
             let count = s.quadruples().len() as f64;
-            let (lx, ly, n) = (1.0, 3f64.sqrt(), 96);
-            let mut sum = 0.0;
-            for iy in 0..n {
-                for ix in 0..n {
-                    let x = lx * (ix as f64 + 0.5) / n as f64;
-                    let y = ly * (iy as f64 + 0.5) / n as f64;
-                    let (mut re, mut im) = (0.0, 0.0);
-                    for q in &s.wavevectors {
-                        let (sn, c) = (q[0] * x + q[1] * y).sin_cos();
-                        re += c;
-                        im += sn;
-                    }
-                    sum += (re * re + im * im).powi(2);
-                }
-            }
-            let avg = sum / (n * n) as f64;
+            let avg = fourth_moment_on_rectangle(&s.wavevectors, 1.0, 3f64.sqrt(), 96);
             assert!((count - avg).abs() < 1e-8, "{name}: {count} vs {avg}");
         }
         // The counts themselves: 2 n^2 - n for sets without nontrivial coincidences.

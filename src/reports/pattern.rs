@@ -6,9 +6,8 @@ use super::figures::{write_density_plot, DensityPlot};
 use super::tables::{header, text_table};
 use crate::config::ConfigSource;
 use crate::model::{Channel, Model};
-use crate::solvers::pattern::{
-    correlation, density_map, gap_map, DensityWave, LinePoint, RankedStructure, StateCandidate,
-};
+use crate::observables::{correlation, density_map, gap_map, DensityWave};
+use crate::solvers::pattern::{LinePoint, RankedStructure, StateCandidate};
 use crate::units::mev_to_kelvin;
 use serde_json::{json, Value};
 use std::path::{Path, PathBuf};

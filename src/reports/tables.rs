@@ -450,7 +450,7 @@ pub fn ordered_json(
     m: &Model,
     c: &Channel,
     st: &crate::solvers::ordered::OrderedStates,
-    spectra: &[crate::solvers::ordered::Spectrum],
+    spectra: &[crate::observables::Spectrum],
 ) -> Value {
     let sols: Vec<Value> = st
         .solutions
@@ -489,7 +489,7 @@ pub fn ordered_json(
 pub fn ordered_text(
     c: &Channel,
     st: &crate::solvers::ordered::OrderedStates,
-    spectra: &[crate::solvers::ordered::Spectrum],
+    spectra: &[crate::observables::Spectrum],
 ) -> String {
     let rows: Vec<Vec<String>> = st
         .solutions

@@ -3,6 +3,7 @@
 //! value, its error estimate and why it stopped.
 
 pub mod canonical;
+pub mod defaults;
 pub mod optimize;
 pub mod ordered;
 pub mod pattern;

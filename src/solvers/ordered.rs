@@ -19,6 +19,7 @@ use crate::solvers::roots::brent_root;
 /// Tolerances of the ordered-state search.
 #[derive(Debug, Clone, Copy)]
 pub struct OrderedSolver {
+    /// Accuracy of the shell integrals.
     pub acc: Accuracy,
     /// Points of the Delta grid.
     pub grid_points: usize,
@@ -39,6 +40,7 @@ impl Default for OrderedSolver {
     }
 }
 
+/// Kind of an ordered-state solution.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum StateKind {
@@ -47,6 +49,7 @@ pub enum StateKind {
     Modulated,
 }
 
+/// Stability of a solution among all those at the same temperature.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Stability {
@@ -58,6 +61,7 @@ pub enum Stability {
 /// One stationary point of Omega.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct Solution {
+    /// Normal, uniform or modulated.
     pub state: StateKind,
     /// |Delta|, meV.
     pub delta: f64,
@@ -65,9 +69,11 @@ pub struct Solution {
     pub q: [f64; 2],
     /// Omega per spin channel relative to the normal state, meV/nm^2.
     pub omega: f64,
+    /// Estimated absolute error of `omega`, meV/nm^2.
     pub omega_error: f64,
     /// Whether Omega has a minimum in Delta here (before comparing minima).
     pub minimum: bool,
+    /// Stable (lowest minimum), metastable (another minimum) or unstable (a maximum).
     pub stability: Stability,
 }
 
@@ -76,6 +82,7 @@ pub struct Solution {
 pub struct OrderedStates {
     /// k_B T, meV.
     pub t: f64,
+    /// Every solution found, the normal state first.
     pub solutions: Vec<Solution>,
     /// Index of the chosen solution (lowest Omega among minima; the normal state when none
     /// is lower).
@@ -83,6 +90,7 @@ pub struct OrderedStates {
 }
 
 impl OrderedStates {
+    /// The chosen solution.
     pub fn chosen(&self) -> &Solution {
         &self.solutions[self.chosen]
     }
@@ -410,71 +418,10 @@ pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
     crate::solvers::tc::q_search_scale(model, ch, t.max(t_floor))
 }
 
-/// The quasiparticle spectrum of a solution relative to the chemical potential.
-#[derive(Debug, Clone, serde::Serialize)]
-pub struct Spectrum {
-    /// The smallest excitation energy min_k (R - |h_k|) in meV when positive (a gapped state);
-    /// None when some Fermi-surface pieces stay ungapped.
-    pub gap: Option<f64>,
-    /// Angular ranges (degrees, polar angle about the shell centre, counter-clockwise from x)
-    /// where the spectrum is gapless.
-    pub gapless_arcs_deg: Vec<[f64; 2]>,
-}
-
-/// Samples the shell on 360 rays (64 values of xi on each) to find the excitation gap of a
-/// solution, or the arcs where it vanishes.
-pub fn spectrum(model: &Model, ch: &Channel, sol: &Solution) -> Result<Spectrum, NumericalError> {
-    let shell = Shell::for_channel(model, ch, sol.q)?;
-    let d2 = sol.delta * sol.delta;
-    let n_rays = 360;
-    let mut min_gap = f64::INFINITY;
-    let mut gapless = vec![false; n_rays];
-    for (j, flag) in gapless.iter_mut().enumerate() {
-        let th = 2.0 * std::f64::consts::PI * j as f64 / n_rays as f64;
-        let u = [th.cos(), th.sin()];
-        let mut ray_min = f64::INFINITY;
-        let span = (sol.delta + ch.mismatch.abs()).min(shell.cutoff);
-        let samples = (0..=64)
-            .map(|i| shell.xi_lo + (shell.cutoff - shell.xi_lo) * i as f64 / 64.0)
-            .chain((-32..=32).map(|i| span * i as f64 / 32.0))
-            .filter(|&x| x >= shell.xi_lo && x <= shell.cutoff);
-        for xi in samples {
-            let r = shell.xi_radius(u, xi)?;
-            let p = shell.at(shell.point_on_ray(u, r));
-            let e = (p.xi() * p.xi() + d2 * p.w).sqrt() - p.h().abs();
-            ray_min = ray_min.min(e);
-        }
-        if ray_min <= 0.0 {
-            *flag = true;
-        }
-        min_gap = min_gap.min(ray_min);
-    }
-    let mut arcs = Vec::new();
-    let mut j = 0;
-    while j < n_rays {
-        if gapless[j] {
-            let start = j;
-            while j < n_rays && gapless[j] {
-                j += 1;
-            }
-            arcs.push([start as f64, j as f64 - 1.0]);
-        } else {
-            j += 1;
-        }
-    }
-    Ok(Spectrum {
-        gap: if min_gap > 0.0 && sol.delta > 0.0 {
-            Some(min_gap)
-        } else {
-            None
-        },
-        gapless_arcs_deg: arcs,
-    })
-}
-
 /// Two uniform channels that share a pocket, ordered together (physics.md section 4).
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct CoupledChannels {
+    /// Labels of the two channels.
     pub channels: [String; 2],
     /// Gaps (meV) at the lowest Omega found over (Delta_1, Delta_2) >= 0.
     pub deltas: [f64; 2],

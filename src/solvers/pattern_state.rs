@@ -17,8 +17,7 @@
 
 use crate::error::NumericalError;
 use crate::kernels::harmonics::{
-    omega_multi, omega_on_grid, omega_scale, ray_symmetry, HarmonicGrid, HarmonicSet, MultiOmega,
-    RaySymmetry,
+    omega_scale, ray_symmetry, HarmonicGrid, HarmonicSet, MultiOmega, OmegaAt, RaySymmetry,
 };
 use crate::model::Model;
 use nalgebra::{DMatrix, DVector};
@@ -41,14 +40,17 @@ pub enum HarmonicCheck {
 pub struct PatternOptions {
     /// Harmonic truncation order m (window steps), >= 1.
     pub order: usize,
+    /// The k grid of the first solve (refined when the doubling check asks for it).
     pub grid: HarmonicGrid,
     /// Stop when max_G |Delta_new - Delta| <= tol max_G |Delta|.
     pub tol: f64,
+    /// Most fixed-point iterations before `NotConverged`.
     pub max_iterations: usize,
     /// Anderson memory (0: plain mixing).
     pub memory: usize,
     /// Mixing factor of the Anderson step (1: undamped).
     pub mixing: f64,
+    /// How the harmonic truncation is checked at order m + 1.
     pub harmonic_check: HarmonicCheck,
 }
 
@@ -71,6 +73,7 @@ impl Default for PatternOptions {
 pub struct PatternState {
     /// First harmonics q_j (1/nm) and their starting phases (radians).
     pub wavevectors: Vec<[f64; 2]>,
+    /// Starting phases of the first harmonics, radians.
     pub phases: Vec<f64>,
     /// k_B T, meV.
     pub t: f64,
@@ -234,7 +237,7 @@ fn iterate(
     let mut last = f64::NAN;
     let floor = 1e-7 * amplitude_scale;
     for it in 1..=opts.max_iterations {
-        let eval = omega_on_grid(model, ch, set, &x, t, grid, &[], sym, true)?;
+        let eval = OmegaAt::new(model, ch, set, &x, t).on_grid(grid, sym)?;
         let mut y: Vec<Complex64> = eval.coherence.iter().map(|c| -*c * g).collect();
         project(&mut y, &orbits);
         let f: Vec<Complex64> = y.iter().zip(&x).map(|(a, b)| a - b).collect();
@@ -306,18 +309,7 @@ pub fn solve_structure(
         .channels
         .get(ch)
         .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
-    if phases.len() != wavevectors.len() {
-        return Err(NumericalError::Invalid(format!(
-            "{} phases given for {} wavevectors",
-            phases.len(),
-            wavevectors.len()
-        )));
-    }
-    if !start_amplitude.is_finite() || start_amplitude <= 0.0 {
-        return Err(NumericalError::Invalid(format!(
-            "the starting amplitude must be positive (got {start_amplitude} meV)"
-        )));
-    }
+    check_start(wavevectors, phases, start_amplitude)?;
     let set = HarmonicSet::new(wavevectors, opts.order)?;
     let start: Vec<([f64; 2], Complex64)> = wavevectors
         .iter()
@@ -326,87 +318,30 @@ pub fn solve_structure(
         .collect();
     let x0 = set.place(&start)?;
     let sym = ray_symmetry(model, ch, &set, &x0);
-    let qs = set.difference_wavevectors();
-    let mut grid = opts.grid;
-    let mut solved = iterate(model, ch, &set, x0, t, &grid, &sym, opts, start_amplitude)?;
-    let mut iterations = solved.iterations;
-    let mut refinements = 0;
-    let (fine, grid_change) = loop {
-        let fine = omega_on_grid(
-            model,
-            ch,
-            &set,
-            &solved.x,
-            t,
-            &grid.doubled(),
-            &qs,
-            &sym,
-            true,
-        )?;
-        let change = (fine.omega - solved.eval.omega).abs();
-        // Relative to Omega, with a floor at the scale of the starting state (a solution that
-        // fell far below it is judged against that scale, not against its own tiny Omega).
-        let start_scale = 1e-2 * wavevectors.len() as f64 * start_amplitude * start_amplitude / c.g;
-        let target = grid.rtol * omega_scale(fine.omega, &solved.x, c.g).max(start_scale);
-        if change <= target {
-            break (fine, change);
-        }
-        if refinements >= grid.max_doublings {
-            return Err(NumericalError::NotConverged {
-                what: "multi-wavevector state over the k grid".into(),
-                iterations: refinements + 1,
-                last_change: change,
-                target,
-            });
-        }
-        refinements += 1;
-        grid = grid.doubled();
-        let x = solved.x.clone();
-        solved = iterate(model, ch, &set, x, t, &grid, &sym, opts, start_amplitude)?;
-        iterations += solved.iterations;
+    let solve = StructureSolve {
+        model,
+        ch,
+        t,
+        opts,
+        start_amplitude,
     };
+    let solved = solve.iterate(&set, x0, &opts.grid, &sym)?;
+    let GridConverged {
+        solved,
+        fine,
+        grid_change,
+        grid,
+        mut iterations,
+    } = solve.converge_grid(&set, &sym, solved, wavevectors.len(), c.g)?;
     // Harmonics: order m + 1 on the solve grid.
     let (harmonic_change, harmonic_component_change) = match opts.harmonic_check {
         HarmonicCheck::None => (f64::NAN, f64::NAN),
         _ if solved.normal => (0.0, 0.0),
         check => {
-            let up = HarmonicSet::new(wavevectors, opts.order + 1)?;
-            if up.window_sizes() == set.window_sizes() && up.fourier.len() == set.fourier.len() {
-                // The windows closed (one wavevector): order m + 1 is the same problem.
-                (0.0, 0.0)
-            } else {
-                let comps: Vec<([f64; 2], Complex64)> = set
-                    .fourier
-                    .iter()
-                    .copied()
-                    .zip(solved.x.iter().copied())
-                    .collect();
-                let x_up = up.place(&comps)?;
-                let sym_up = ray_symmetry(model, ch, &up, &x_up);
-                if check == HarmonicCheck::Evaluate {
-                    let e = omega_on_grid(model, ch, &up, &x_up, t, &grid, &[], &sym_up, false)?;
-                    ((e.omega - solved.eval.omega).abs(), 0.0)
-                } else {
-                    let s = iterate(
-                        model,
-                        ch,
-                        &up,
-                        x_up.clone(),
-                        t,
-                        &grid,
-                        &sym_up,
-                        opts,
-                        start_amplitude,
-                    )?;
-                    iterations += s.iterations;
-                    let dmax =
-                        s.x.iter()
-                            .zip(&x_up)
-                            .map(|(a, b)| (a - b).norm())
-                            .fold(0.0, f64::max);
-                    ((s.eval.omega - solved.eval.omega).abs(), dmax)
-                }
-            }
+            let (omega_change, dmax, its) =
+                solve.harmonic_change(&set, wavevectors, &solved, &grid, check)?;
+            iterations += its;
+            (omega_change, dmax)
         }
     };
     let omega_error = grid_change
@@ -421,12 +356,7 @@ pub fn solve_structure(
         phases: phases.to_vec(),
         t,
         order: opts.order,
-        components: set
-            .fourier
-            .iter()
-            .copied()
-            .zip(solved.x.iter().copied())
-            .collect(),
+        components: on_fourier(&set, &solved.x),
         omega: fine.omega,
         omega_error,
         spin_channels: c.spin_channels,
@@ -436,23 +366,168 @@ pub fn solve_structure(
         harmonic_component_change,
         grid_change,
         grid,
-        coherence: set
-            .fourier
-            .iter()
-            .copied()
-            .zip(fine.coherence.iter().copied())
-            .take(n1)
-            .collect(),
+        coherence: on_fourier(&set, &fine.coherence)[..n1].to_vec(),
         intraband: fine.intraband,
         normal: solved.normal,
         symmetry_fold: sym.fold(),
     })
 }
 
+/// The values `x` paired with the vectors G (1/nm) of the Fourier set.
+fn on_fourier(set: &HarmonicSet, x: &[Complex64]) -> Vec<([f64; 2], Complex64)> {
+    set.fourier.iter().copied().zip(x.iter().copied()).collect()
+}
+
+/// One phase (radians) per wavevector and a positive starting amplitude (meV).
+fn check_start(
+    wavevectors: &[[f64; 2]],
+    phases: &[f64],
+    start_amplitude: f64,
+) -> Result<(), NumericalError> {
+    if phases.len() != wavevectors.len() {
+        return Err(NumericalError::Invalid(format!(
+            "{} phases given for {} wavevectors",
+            phases.len(),
+            wavevectors.len()
+        )));
+    }
+    if !start_amplitude.is_finite() || start_amplitude <= 0.0 {
+        return Err(NumericalError::Invalid(format!(
+            "the starting amplitude must be positive (got {start_amplitude} meV)"
+        )));
+    }
+    Ok(())
+}
+
+/// One structure's solve: the channel, the temperature (meV), the options and the starting
+/// amplitude (meV), shared by the grid refinement and the harmonic check.
+struct StructureSolve<'a> {
+    model: &'a Model,
+    ch: usize,
+    t: f64,
+    opts: &'a PatternOptions,
+    start_amplitude: f64,
+}
+
+/// The state on the grid that reached its target: the solution, its evaluation on the doubled
+/// grid, the change between them, the grid and the iterations spent.
+struct GridConverged {
+    solved: Solved,
+    fine: MultiOmega,
+    grid_change: f64,
+    grid: HarmonicGrid,
+    iterations: usize,
+}
+
+impl StructureSolve<'_> {
+    /// The fixed-point iteration on `set` from x0 on `grid`.
+    fn iterate(
+        &self,
+        set: &HarmonicSet,
+        x0: Vec<Complex64>,
+        grid: &HarmonicGrid,
+        sym: &RaySymmetry,
+    ) -> Result<Solved, NumericalError> {
+        iterate(
+            self.model,
+            self.ch,
+            set,
+            x0,
+            self.t,
+            grid,
+            sym,
+            self.opts,
+            self.start_amplitude,
+        )
+    }
+
+    /// Evaluates `solved` on the doubled grid and solves again on finer grids until the change is
+    /// within the grid's target (`n1` first harmonics, coupling g in meV nm^2).
+    fn converge_grid(
+        &self,
+        set: &HarmonicSet,
+        sym: &RaySymmetry,
+        mut solved: Solved,
+        n1: usize,
+        g: f64,
+    ) -> Result<GridConverged, NumericalError> {
+        let (model, ch, t) = (self.model, self.ch, self.t);
+        let qs = set.difference_wavevectors();
+        let mut grid = self.opts.grid;
+        let mut iterations = solved.iterations;
+        let mut refinements = 0;
+        loop {
+            let fine = OmegaAt::new(model, ch, set, &solved.x, t)
+                .with_intraband(&qs)
+                .on_grid(&grid.doubled(), sym)?;
+            let change = (fine.omega - solved.eval.omega).abs();
+            // Relative to Omega, with a floor at the scale of the starting state (a solution that
+            // fell far below it is judged against that scale, not against its own tiny Omega).
+            let start_scale = 1e-2 * n1 as f64 * self.start_amplitude * self.start_amplitude / g;
+            let target = grid.rtol * omega_scale(fine.omega, &solved.x, g).max(start_scale);
+            if change <= target {
+                return Ok(GridConverged {
+                    solved,
+                    fine,
+                    grid_change: change,
+                    grid,
+                    iterations,
+                });
+            }
+            if refinements >= grid.max_doublings {
+                return Err(NumericalError::NotConverged {
+                    what: "multi-wavevector state over the k grid".into(),
+                    iterations: refinements + 1,
+                    last_change: change,
+                    target,
+                });
+            }
+            refinements += 1;
+            grid = grid.doubled();
+            let x = solved.x.clone();
+            solved = self.iterate(set, x, &grid, sym)?;
+            iterations += solved.iterations;
+        }
+    }
+
+    /// The change of Omega (and the largest change of a component, meV, when re-solved) at
+    /// harmonic order m + 1 on `grid`, with the iterations spent.
+    fn harmonic_change(
+        &self,
+        set: &HarmonicSet,
+        wavevectors: &[[f64; 2]],
+        solved: &Solved,
+        grid: &HarmonicGrid,
+        check: HarmonicCheck,
+    ) -> Result<(f64, f64, usize), NumericalError> {
+        let (model, ch, t) = (self.model, self.ch, self.t);
+        let up = HarmonicSet::new(wavevectors, self.opts.order + 1)?;
+        if up.window_sizes() == set.window_sizes() && up.fourier.len() == set.fourier.len() {
+            // The windows closed (one wavevector): order m + 1 is the same problem.
+            return Ok((0.0, 0.0, 0));
+        }
+        let x_up = up.place(&on_fourier(set, &solved.x))?;
+        let sym_up = ray_symmetry(model, ch, &up, &x_up);
+        if check == HarmonicCheck::Evaluate {
+            let e = OmegaAt::new(model, ch, &up, &x_up, t)
+                .omega_only()
+                .on_grid(grid, &sym_up)?;
+            return Ok(((e.omega - solved.eval.omega).abs(), 0.0, 0));
+        }
+        let s = self.iterate(&up, x_up.clone(), grid, &sym_up)?;
+        let dmax =
+            s.x.iter()
+                .zip(&x_up)
+                .map(|(a, b)| (a - b).norm())
+                .fold(0.0, f64::max);
+        Ok(((s.eval.omega - solved.eval.omega).abs(), dmax, s.iterations))
+    }
+}
+
 /// Omega per spin channel (meV/nm^2) and its error estimate at equal first-harmonic amplitudes
 /// `amplitude` (meV) with phases `phases` (radians), higher harmonics zero, order `m`: no
 /// self-consistency. For comparing the small-amplitude expansion with the Landau coefficients.
-/// The value is from the finest grid of [`omega_multi`], the error its last grid change.
+/// The value is from the finest grid of [`OmegaAt::converged`], the error its last grid change.
 #[allow(clippy::too_many_arguments)]
 pub fn omega_at_amplitude(
     model: &Model,
@@ -478,6 +553,8 @@ pub fn omega_at_amplitude(
         .map(|(q, p)| (*q, Complex64::from_polar(amplitude, *p)))
         .collect();
     let x = set.place(&comps)?;
-    let e = omega_multi(model, ch, &set, &x, t, grid, &[], false)?;
+    let e = OmegaAt::new(model, ch, &set, &x, t)
+        .omega_only()
+        .converged(grid)?;
     Ok((e.omega, e.error.unwrap_or(f64::NAN)))
 }

@@ -413,6 +413,21 @@ mod tests {
         best
     }
 
+    /// Weights of the square's quadruples: 1 for the phase-free ones (j1 = j2, j3 = j4 or
+    /// j1 = j4, j2 = j3), `other` for the rest.
+    fn square_weights(qs: &[[usize; 4]], other: f64) -> Vec<f64> {
+        qs.iter()
+            .map(|j| {
+                let trivial = (j[0] == j[1] && j[2] == j[3]) || (j[0] == j[3] && j[1] == j[2]);
+                if trivial {
+                    1.0
+                } else {
+                    other
+                }
+            })
+            .collect()
+    }
+
     /// Square (+-q1, +-q2 at 90 degrees): F4 depends on phi_0 + phi_1 - phi_2 - phi_3 through the
     /// eight quadruples pairing the two standing waves (a phase-sensitive term; common practice
     /// for four-wave structures). With positive weights the minimum puts that combination at pi.
@@ -420,17 +435,7 @@ mod tests {
     fn square_depends_on_one_combination() {
         let (n, qs) = quads("square");
         // Weights from a smooth function of the indices, positive.
-        let vals: Vec<f64> = qs
-            .iter()
-            .map(|j| {
-                let trivial = (j[0] == j[1] && j[2] == j[3]) || (j[0] == j[3] && j[1] == j[2]);
-                if trivial {
-                    1.0
-                } else {
-                    0.3
-                }
-            })
-            .collect();
+        let vals = square_weights(&qs, 0.3);
         let choice = best_phases(n, &qs, &vals);
         assert!(!choice.free);
         assert_eq!(choice.independent, 1);
@@ -518,17 +523,7 @@ mod tests {
     #[test]
     fn negligible_weight_is_free() {
         let (n, qs) = quads("square");
-        let vals: Vec<f64> = qs
-            .iter()
-            .map(|j| {
-                let trivial = (j[0] == j[1] && j[2] == j[3]) || (j[0] == j[3] && j[1] == j[2]);
-                if trivial {
-                    1.0
-                } else {
-                    1e-13
-                }
-            })
-            .collect();
+        let vals = square_weights(&qs, 1e-13);
         assert!(best_phases(n, &qs, &vals).free);
     }
 }

@@ -2,6 +2,7 @@
 //! results returned in grid order so that the output does not depend on the thread count. A
 //! failed point is recorded with its reason and the sweep goes on.
 
+pub mod defaults;
 pub mod phase_map;
 pub mod tc_scan;
 

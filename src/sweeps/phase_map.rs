@@ -252,14 +252,7 @@ fn column(
         let want_pw = opts.modulated && modulated_above && t < md.tc.tc;
         let qs = want_pw.then(|| plane_wave_q_scale(m, ch, t).max(2.0 * md.q[0].hypot(md.q[1])));
         if opts.fixed_density {
-            let lambda = ch.lambda().max(1e-3);
-            let d0 = ch.cutoff / (1.0 / lambda).sinh();
-            let min_offset = m
-                .pockets
-                .iter()
-                .map(|p| p.offset().abs())
-                .fold(f64::INFINITY, f64::min);
-            let window = (2.0 * (ch.mismatch.abs() + d0) + 4.0 * t).min(0.5 * min_offset);
+            let window = crate::solvers::defaults::fixed_density_window(m, opts.channel, t);
             let cell = canonical_state(os, m, opts.channel, t, window).map(|c| Cell {
                 state: if c.state == "normal" {
                     StateKind::Normal
