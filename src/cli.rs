@@ -273,7 +273,7 @@ fn load(cfg: &ConfigArgs) -> Result<(ConfigSource, Model), Failure> {
 }
 
 fn warn(model: &Model) {
-    for w in &model.warnings {
+    for w in model.warnings() {
         eprintln!("nestor: warning: {w}");
     }
 }
@@ -307,7 +307,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
         }
         Command::Tc(a) => {
             let (src, model) = load(&a.cfg)?;
-            if model.channels.is_empty() {
+            if model.channels().is_empty() {
                 return Err(Failure::Input(format!(
                     "{}: the configuration has no [[channel]]: nothing to compute",
                     src.origin
@@ -315,7 +315,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             }
             let s = solver(&a.solve)?;
             let results = model
-                .channels
+                .channels()
                 .iter()
                 .map(|ch| channel_tc(&model, ch, &s, a.solve.method.into()))
                 .collect::<Result<Vec<_>, _>>()?;
@@ -328,7 +328,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
         }
         Command::Solve(a) => {
             let (src, model) = load(&a.cfg)?;
-            if model.channels.is_empty() {
+            if model.channels().is_empty() {
                 return Err(Failure::Input(format!(
                     "{}: the configuration has no [[channel]]: nothing to solve",
                     src.origin
@@ -344,7 +344,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             let s = OrderedSolver::default();
             let mut json_channels = Vec::new();
             let mut text = String::new();
-            for ch in &model.channels {
+            for ch in model.channels() {
                 let qs = (!a.uniform_only).then(|| plane_wave_q_scale(&model, ch, t));
                 let st = s.solve(&model, ch, t, qs).map_err(NestorError::from)?;
                 let spectra = st
@@ -357,18 +357,18 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 text += &tables::ordered_text(ch, &st, &spectra);
                 if a.fixed_density {
                     let idx = model
-                        .channels
+                        .channels()
                         .iter()
-                        .position(|c| c.label == ch.label)
+                        .position(|c| c.label() == ch.label())
                         .unwrap_or(0);
                     let lambda = ch.lambda().max(1e-3);
-                    let d0 = ch.cutoff / (1.0 / lambda).sinh();
+                    let d0 = ch.cutoff() / (1.0 / lambda).sinh();
                     let min_offset = model
-                        .pockets
+                        .pockets()
                         .iter()
                         .map(|p| p.offset().abs())
                         .fold(f64::INFINITY, f64::min);
-                    let window = (2.0 * (ch.mismatch.abs() + d0) + 4.0 * t).min(0.5 * min_offset);
+                    let window = (2.0 * (ch.mismatch().abs() + d0) + 4.0 * t).min(0.5 * min_offset);
                     let cs =
                         nestor::solvers::canonical::canonical_state(&s, &model, idx, t, window)
                             .map_err(NestorError::from)?;
@@ -387,11 +387,11 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             }
             // Uniform channels that share a pocket, ordered together.
             let mut coupled = Vec::new();
-            for i in 0..model.channels.len() {
-                for j in i + 1..model.channels.len() {
-                    let (ci, cj) = (&model.channels[i], &model.channels[j]);
-                    let share = [ci.a, ci.b].iter().any(|p| *p == cj.a || *p == cj.b);
-                    if share && ci.spin_channels == cj.spin_channels {
+            for i in 0..model.channels().len() {
+                for j in i + 1..model.channels().len() {
+                    let (ci, cj) = (&model.channels()[i], &model.channels()[j]);
+                    let share = [ci.a(), ci.b()].iter().any(|p| *p == cj.a() || *p == cj.b());
+                    if share && ci.spin_channels() == cj.spin_channels() {
                         let c =
                             coupled_uniform(&s, &model, [i, j], t).map_err(NestorError::from)?;
                         text += &format!(
@@ -406,7 +406,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
                 let mut v = tables::header(&src, "solve");
                 v["coupled_channels"] = serde_json::Value::Array(coupled);
                 v["channels"] = serde_json::Value::Array(json_channels);
-                v["warnings"] = serde_json::json!(model.warnings);
+                v["warnings"] = serde_json::json!(model.warnings());
                 print_json(&v);
             } else {
                 print!("{text}");
@@ -476,7 +476,7 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             println!("\n== tc: critical temperatures ==");
             let s = TcSolver::default();
             let results = model
-                .channels
+                .channels()
                 .iter()
                 .map(|ch| channel_tc(&model, ch, &s, Method::Exact))
                 .collect::<Result<Vec<_>, _>>()?;
@@ -564,16 +564,16 @@ fn channel_index(model: &Model, name: Option<&String>) -> Result<usize, Failure>
     match name {
         None => Ok(0),
         Some(n) => model
-            .channels
+            .channels()
             .iter()
-            .position(|c| &c.label == n || c.name.as_ref() == Some(n))
+            .position(|c| c.label() == n || c.name() == Some(n.as_str()))
             .ok_or_else(|| {
                 Failure::Input(format!(
                     "--channel {n}: no such channel; channels: {}",
                     model
-                        .channels
+                        .channels()
                         .iter()
-                        .map(|c| c.label.clone())
+                        .map(|c| c.label().to_string())
                         .collect::<Vec<_>>()
                         .join(", ")
                 ))
@@ -619,7 +619,7 @@ fn user_structures(lists: &[String]) -> Result<Vec<Structure>, Failure> {
 }
 
 fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outcome, Failure> {
-    if model.channels.is_empty() {
+    if model.channels().is_empty() {
         return Err(Failure::Input(format!(
             "{}: the configuration has no [[channel]]: nothing to compute",
             src.origin
@@ -638,10 +638,10 @@ fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Out
             a.fov
         )));
     }
-    let ch = &model.channels[channel];
+    let ch = &model.channels()[channel];
     let path = match &a.along {
         Some(p) => p.clone(),
-        None => format!("{}.offset", model.pockets[ch.b].name),
+        None => format!("{}.offset", model.pockets()[ch.b()].name()),
     };
     // The path must name a field of the configuration.
     let probe = Override::parse(&format!("{path}=0"))
@@ -701,7 +701,7 @@ fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Out
         fov: a.fov,
         unpaired_correlation: unpaired,
     };
-    let stem = format!("pattern_{}", ch.label);
+    let stem = format!("pattern_{}", ch.label());
     let written = write_pattern(&report, &a.out, &stem).map_err(Failure::Input)?;
     if a.json {
         print_json(&pattern_json(&report));
@@ -728,7 +728,7 @@ fn run_phases(
     a: &PhasesArgs,
 ) -> Result<Outcome, Failure> {
     let channel = channel_index(model, a.channel.as_ref())?;
-    if model.channels.is_empty() {
+    if model.channels().is_empty() {
         return Err(Failure::Input(format!(
             "{}: the configuration has no [[channel]]",
             src.origin
@@ -754,7 +754,7 @@ fn run_phases(
             let mut best: f64 = 0.0;
             for i in [0, grid.len() / 2, grid.len() - 1] {
                 let m = nestor::sweeps::model_at(src, &pinned, grid, i)?;
-                let ch = &m.channels[channel];
+                let ch = &m.channels()[channel];
                 let u = tc.uniform(&m, ch).map_err(NestorError::from)?;
                 best = best.max(u.tc);
                 let md = tc.modulated(&m, ch, &u).map_err(NestorError::from)?;
@@ -804,7 +804,7 @@ fn run_phases(
             }
         }
     }
-    let stem = format!("phases_{}", model.channels[channel].label);
+    let stem = format!("phases_{}", model.channels()[channel].label());
     let written = nestor::reports::phases::write_phases(src, model, grid, &d, &a.out, &stem)
         .map_err(Failure::Input)?;
     for w in &written {

@@ -29,6 +29,9 @@ pub enum NumericalError {
     NotBracketed { what: String, lo: f64, hi: f64 },
     #[error("{0}")]
     Invalid(String),
+    /// The model with every offset shifted (a fixed-density search) is not a valid model.
+    #[error("no valid model with the offsets shifted by {shift} meV: {reason}")]
+    ShiftedModel { shift: f64, reason: String },
 }
 
 /// Any failure of a computation at one parameter point.

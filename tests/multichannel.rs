@@ -35,9 +35,9 @@ fn one_channel_reduces_to_the_closed_form() {
         (&demo(), 0.4, 0.3),
         (&helical, 0.1, 0.04),
     ] {
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let shell = Shell::for_channel(m, ch, [0.0, 0.0]).unwrap();
-        let closed = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &acc)
+        let closed = grand_potential(&shell, ch.g(), ch.mismatch(), delta, t, &acc)
             .unwrap()
             .value;
         let general = omega_uniform_channels(m, &[0], &[delta], t, &acc)

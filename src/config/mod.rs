@@ -86,6 +86,6 @@ impl ConfigSource {
 impl Model {
     /// The couplings of this model, to pin a sweep to the base configuration.
     pub fn pinned_couplings(&self) -> PinnedCouplings {
-        PinnedCouplings(self.channels.iter().map(|c| c.g).collect())
+        PinnedCouplings(self.channels().iter().map(|c| c.g()).collect())
     }
 }

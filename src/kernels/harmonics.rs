@@ -441,7 +441,7 @@ impl RaySymmetry {
 
 /// Whether rotating every momentum leaves the vertex M_ab itself (not only |M_ab|^2) unchanged.
 fn vertex_rotation_invariant(ch: &Channel) -> bool {
-    match ch.form {
+    match ch.form() {
         FormFactor::Unity => true,
         FormFactor::Helical {
             winding_a,
@@ -461,8 +461,8 @@ pub fn ray_symmetry(
     set: &HarmonicSet,
     deltas: &[Complex64],
 ) -> RaySymmetry {
-    let c = &model.channels[ch];
-    let (a, b) = (&model.pockets[c.a], &model.pockets[c.b]);
+    let c = &model.channels()[ch];
+    let (a, b) = (&model.pockets()[c.a()], &model.pockets()[c.b()]);
     if !(a.is_isotropic() && b.is_isotropic() && vertex_rotation_invariant(c)) {
         return RaySymmetry::Full;
     }
@@ -514,7 +514,7 @@ enum Vertex {
 
 impl Vertex {
     fn new(a: &Pocket, b: &Pocket, m: SpinMatrix) -> Vertex {
-        match (a.spin, b.spin) {
+        match (a.spin(), b.spin()) {
             (
                 Spin::Helical {
                     winding: wa,
@@ -1166,7 +1166,7 @@ pub fn omega_on_grid(
     derivatives: bool,
 ) -> Result<MultiOmega, NumericalError> {
     let c = model
-        .channels
+        .channels()
         .get(ch)
         .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
     if deltas.len() != set.fourier.len() {
@@ -1193,9 +1193,9 @@ pub fn omega_on_grid(
             "invalid harmonic grid {grid:?}"
         )));
     }
-    let (a, b) = (&model.pockets[c.a], &model.pockets[c.b]);
+    let (a, b) = (&model.pockets()[c.a()], &model.pockets()[c.b()]);
     let shell0 = Shell::for_channel(model, c, [0.0, 0.0])?;
-    check_dirac_points(a, b, c.cutoff, set)?;
+    check_dirac_points(a, b, c.cutoff(), set)?;
     // Intraband wavevectors, closed under the rotation the angular rule uses.
     let mut qs: Vec<[f64; 2]> = Vec::new();
     for q in intraband {
@@ -1240,13 +1240,13 @@ pub fn omega_on_grid(
         .map(|d| a.fermi_velocity_along(*d).max(b.fermi_velocity_along(*d)))
         .fold(0.0, f64::max);
     let h_max = c
-        .mismatch
+        .mismatch()
         .abs()
-        .max(c.mismatch_range[0].abs())
-        .max(c.mismatch_range[1].abs());
+        .max(c.mismatch_range()[0].abs())
+        .max(c.mismatch_range()[1].abs());
     let lambda = c.lambda();
     let delta_bcs = if lambda > 0.0 {
-        c.cutoff / (1.0 / lambda).sinh()
+        c.cutoff() / (1.0 / lambda).sinh()
     } else {
         0.0
     };
@@ -1261,8 +1261,8 @@ pub fn omega_on_grid(
     let ev = Evaluator {
         a,
         b,
-        vertex: Vertex::new(a, b, c.spin_matrix),
-        cutoff: c.cutoff,
+        vertex: Vertex::new(a, b, c.spin_matrix()),
+        cutoff: c.cutoff(),
         t,
         set,
         deltas,
@@ -1349,7 +1349,7 @@ pub fn omega_on_grid(
             *x = sum;
         }
     }
-    let quad: f64 = deltas.iter().map(|d| d.norm_sqr()).sum::<f64>() / c.g;
+    let quad: f64 = deltas.iter().map(|d| d.norm_sqr()).sum::<f64>() / c.g();
     if !derivatives {
         return Ok(MultiOmega {
             omega: quad + omega_band,
@@ -1366,7 +1366,7 @@ pub fn omega_on_grid(
     let gradient = deltas
         .iter()
         .zip(&coh)
-        .map(|(d, x)| *d / c.g + *x)
+        .map(|(d, x)| *d / c.g() + *x)
         .collect();
     Ok(MultiOmega {
         omega: quad + omega_band,
@@ -1436,7 +1436,7 @@ pub fn omega_multi(
 ) -> Result<MultiOmega, NumericalError> {
     let sym = ray_symmetry(model, ch, set, deltas);
     let g =
-        model.channels.get(ch).map(|c| c.g).ok_or_else(|| {
+        model.channels().get(ch).map(|c| c.g()).ok_or_else(|| {
             NumericalError::Invalid(format!("channel index {ch} is out of range"))
         })?;
     let mut grid = *grid;

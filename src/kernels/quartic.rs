@@ -159,9 +159,9 @@ pub fn quadruple_loop(
             "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
         ));
     }
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
-    let shell = Shell::new(a, b, ch.form, ch.cutoff, q[0])?;
-    let lambda = ch.cutoff;
+    let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
+    let shell = Shell::new(a, b, ch.form(), ch.cutoff(), q[0])?;
+    let lambda = ch.cutoff();
     let s2 = [q[0][0] - q[1][0], q[0][1] - q[1][1]];
     let q4 = q[3];
     let q1 = q[0];
@@ -169,7 +169,7 @@ pub fn quadruple_loop(
     let rule = PanelRule::new(acc.order);
     let add = |k: [f64; 2], s: [f64; 2]| [k[0] + s[0], k[1] + s[1]];
     let helical = matches!(
-        (a.spin, b.spin),
+        (a.spin(), b.spin()),
         (Spin::Helical { .. }, Spin::Helical { .. })
     );
     // Value along the ray of every quantity that has a feature: the two further Fermi crossings
@@ -261,7 +261,7 @@ pub fn quadruple_loop(
                 }
                 let mut v = Complex64::new(0.5 * fermi_divided_difference(&e, t), 0.0);
                 if helical {
-                    let m = |pa, pb| band_matrix_element(a, b, ch.spin_matrix, pa, pb);
+                    let m = |pa, pb| band_matrix_element(a, b, ch.spin_matrix(), pa, pb);
                     v *= m(ka, k) * m(ka, kb2).conj() * m(ka4, kb2) * m(ka4, k).conj();
                 }
                 sum += v * (r * wr);
@@ -296,7 +296,7 @@ pub fn quadruple_loop(
         value = new;
         // Absolute floor: a loop that cancels to nothing is judged against the plane-wave scale
         // nu / T^2.
-        let floor = 1e-9 * ch.nu / (t * t);
+        let floor = 1e-9 * ch.nu() / (t * t);
         if change <= rtol * value.norm() || change <= floor {
             return Ok(LoopValue {
                 value,
@@ -320,11 +320,11 @@ pub fn structure_loops(
 ) -> Result<Vec<([usize; 4], LoopValue)>, NumericalError> {
     use rayon::prelude::*;
     let quads = structure.quadruples();
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
     let isotropic = a.is_isotropic()
         && b.is_isotropic()
-        && ch.form.is_rotation_invariant()
-        && ch.form.is_mirror_symmetric();
+        && ch.form().is_rotation_invariant()
+        && ch.form().is_mirror_symmetric();
     let qs = &structure.wavevectors;
     let scale = structure.q_max().max(1e-300);
     let key = |j: &[usize; 4]| -> Vec<i64> {

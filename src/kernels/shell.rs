@@ -92,10 +92,10 @@ impl<'m> Shell<'m> {
         q: [f64; 2],
     ) -> Result<Self, NumericalError> {
         Shell::new(
-            &model.pockets[ch.a],
-            &model.pockets[ch.b],
-            ch.form,
-            ch.cutoff,
+            &model.pockets()[ch.a()],
+            &model.pockets()[ch.b()],
+            ch.form(),
+            ch.cutoff(),
             q,
         )
     }
@@ -272,7 +272,7 @@ impl<'m> Shell<'m> {
     /// field(r) = c0 + c1 r + c2 r^2 along u, exactly, where the field is quadratic (a parabolic
     /// band, or xi between two parabolic bands).
     fn quadratic_along(&self, field: Field, u: [f64; 2]) -> Option<[f64; 3]> {
-        let curvature = |p: &Pocket| match p.dispersion {
+        let curvature = |p: &Pocket| match p.dispersion() {
             crate::model::Dispersion::Parabolic { sign, .. } => Some(sign * quad_form(p, u)),
             _ => None,
         };
@@ -439,11 +439,11 @@ pub struct Ray {
 
 /// The lab-frame tensor T of |eps - E0| = k.T k for a parabolic pocket.
 fn quadratic_tensor(p: &Pocket) -> [[f64; 2]; 2] {
-    let c = match p.dispersion {
+    let c = match p.dispersion() {
         crate::model::Dispersion::Parabolic { c, .. } => c,
         _ => [0.0, 0.0],
     };
-    let (co, si) = (p.angle.cos(), p.angle.sin());
+    let (co, si) = (p.angle().cos(), p.angle().sin());
     // R diag(c) R^T
     [
         [c[0] * co * co + c[1] * si * si, (c[0] - c[1]) * co * si],

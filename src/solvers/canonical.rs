@@ -8,19 +8,19 @@
 //! Sign convention: a shift s moves every offset E0 -> E0 + s, i.e. the chemical potential by -s.
 
 use crate::error::NumericalError;
-use crate::model::{Dispersion, Model};
+use crate::model::{Dispersion, Model, Param};
 use crate::solvers::ordered::{OrderedSolver, StateKind};
 use crate::solvers::roots::brent_root;
 
-/// The model with every offset shifted by s (meV); couplings and everything else unchanged.
-pub fn shifted(model: &Model, s: f64) -> Model {
-    let mut m = model.clone();
-    m.pockets = model
-        .pockets
-        .iter()
-        .map(|p| p.with_offset_shift(s))
-        .collect();
-    m
+/// The model with every offset shifted by s (meV), g pinned; nu and the mismatch are those of
+/// the shifted pockets.
+pub fn shifted(model: &Model, s: f64) -> Result<Model, NumericalError> {
+    model
+        .with(&[(Param::OffsetShift, s)])
+        .map_err(|e| NumericalError::ShiftedModel {
+            shift: s,
+            reason: e.to_string(),
+        })
 }
 
 /// Net carrier density per nm^2 of the normal state at temperature t (meV): electrons counted
@@ -29,12 +29,12 @@ pub fn shifted(model: &Model, s: f64) -> Model {
 /// pocket included.
 pub fn normal_carriers(model: &Model, t: f64) -> f64 {
     model
-        .pockets
+        .pockets()
         .iter()
         .map(|p| {
             let sign = p.carrier_sign();
             let e0 = p.offset();
-            let n = match p.dispersion {
+            let n = match p.dispersion() {
                 Dispersion::Parabolic { c, .. } => {
                     // Constant DOS D = 1/(4 pi sqrt(cx cy)) per spin: n = D T ln(1 + e^{-+E0/T}).
                     let d = 1.0 / (4.0 * std::f64::consts::PI * (c[0] * c[1]).sqrt());
@@ -124,8 +124,8 @@ fn uniform_at(
     s: f64,
     t: f64,
 ) -> Result<(f64, Option<UniformBranch>), NumericalError> {
-    let m = shifted(model, s);
-    let ch = &m.channels[channel];
+    let m = shifted(model, s)?;
+    let ch = &m.channels()[channel];
     let n_normal = normal_carriers(&m, t);
     let st = os.solve(&m, ch, t, None)?;
     let best = st
@@ -138,26 +138,15 @@ fn uniform_at(
         return Ok((n_normal, None));
     };
     // delta N = -dOmega/dmu = dOmega/ds at fixed Delta (Delta is stationary), total over spins.
-    let ds = 1e-4 * ch.cutoff;
+    let ds = 1e-4 * ch.cutoff();
+    let (mp, mm) = (shifted(model, s + ds)?, shifted(model, s - ds)?);
     let op = os
-        .omega(
-            &shifted(model, s + ds),
-            &shifted(model, s + ds).channels[channel],
-            [0.0, 0.0],
-            b.delta,
-            t,
-        )?
+        .omega(&mp, &mp.channels()[channel], [0.0, 0.0], b.delta, t)?
         .0;
     let om = os
-        .omega(
-            &shifted(model, s - ds),
-            &shifted(model, s - ds).channels[channel],
-            [0.0, 0.0],
-            b.delta,
-            t,
-        )?
+        .omega(&mm, &mm.channels()[channel], [0.0, 0.0], b.delta, t)?
         .0;
-    let dn = ch.spin_channels * (op - om) / (2.0 * ds);
+    let dn = ch.spin_channels() * (op - om) / (2.0 * ds);
     Ok((n_normal, Some((n_normal + dn, b.delta, b.omega))))
 }
 
@@ -179,7 +168,7 @@ pub fn canonical_state(
         -window,
         window,
         1e-12,
-        |s| Ok(normal_carriers(&shifted(model, s), t) - target),
+        |s| Ok(normal_carriers(&shifted(model, s)?, t) - target),
     )?
     .x;
     // Rows of shifts: a coarse grid over the window and a fine one around the normal phase's

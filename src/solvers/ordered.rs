@@ -141,12 +141,12 @@ impl OrderedSolver {
             if t <= 0.0 {
                 // chi diverges logarithmically at T = 0 for h = 0; use a tiny gap instead.
                 return Ok(
-                    gap_function(&shell, ch.g, ch.mismatch, 1e-9 * ch.cutoff, t, &acc)?.value,
+                    gap_function(&shell, ch.g(), ch.mismatch(), 1e-9 * ch.cutoff(), t, &acc)?.value,
                 );
             }
-            return Ok(1.0 / ch.g - susceptibility(&shell, t, &acc)?.value);
+            return Ok(1.0 / ch.g() - susceptibility(&shell, t, &acc)?.value);
         }
-        Ok(gap_function(&shell, ch.g, ch.mismatch, delta, t, &acc)?.value)
+        Ok(gap_function(&shell, ch.g(), ch.mismatch(), delta, t, &acc)?.value)
     }
 
     /// Omega(Delta) per spin channel at q.
@@ -159,7 +159,7 @@ impl OrderedSolver {
         t: f64,
     ) -> Result<(f64, f64), NumericalError> {
         let shell = Shell::for_channel(model, ch, q)?;
-        let e = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &self.acc_at(q, t))?;
+        let e = grand_potential(&shell, ch.g(), ch.mismatch(), delta, t, &self.acc_at(q, t))?;
         Ok((e.value, e.error))
     }
 
@@ -172,13 +172,13 @@ impl OrderedSolver {
         t: f64,
     ) -> Result<Vec<(f64, f64)>, NumericalError> {
         let lambda = ch.lambda().max(1e-3);
-        let bcs = ch.cutoff / (1.0 / lambda).sinh();
-        let mut hi = (3.0 * bcs + 2.0 * ch.mismatch.abs()).min(ch.cutoff);
+        let bcs = ch.cutoff() / (1.0 / lambda).sinh();
+        let mut hi = (3.0 * bcs + 2.0 * ch.mismatch().abs()).min(ch.cutoff());
         for _ in 0..6 {
             if self.gap_fn(model, ch, q, hi, t)? > 0.0 {
                 break;
             }
-            hi = (hi * 2.0).min(4.0 * ch.cutoff);
+            hi = (hi * 2.0).min(4.0 * ch.cutoff());
         }
         let n = self.grid_points.max(8);
         let mut out = Vec::with_capacity(n + 1);
@@ -383,7 +383,7 @@ impl OrderedSolver {
             .ok_or_else(|| {
                 NumericalError::Invalid(format!(
                     "channel {}: Omega has no minimum on the gap grid at T = {t:.4e} meV (the normal state is unstable); refine the grid",
-                    ch.label
+                    ch.label()
                 ))
             })?;
         for (i, s) in all.iter_mut().enumerate() {
@@ -433,7 +433,7 @@ pub fn spectrum(model: &Model, ch: &Channel, sol: &Solution) -> Result<Spectrum,
         let th = 2.0 * std::f64::consts::PI * j as f64 / n_rays as f64;
         let u = [th.cos(), th.sin()];
         let mut ray_min = f64::INFINITY;
-        let span = (sol.delta + ch.mismatch.abs()).min(shell.cutoff);
+        let span = (sol.delta + ch.mismatch().abs()).min(shell.cutoff);
         let samples = (0..=64)
             .map(|i| shell.xi_lo + (shell.cutoff - shell.xi_lo) * i as f64 / 64.0)
             .chain((-32..=32).map(|i| span * i as f64 / 32.0))
@@ -504,7 +504,7 @@ pub fn coupled_uniform(
     let mut single = [0.0; 2];
     let mut d_single = [0.0; 2];
     for (i, &c) in pair.iter().enumerate() {
-        let st = os.solve(model, &model.channels[c], t, None)?;
+        let st = os.solve(model, &model.channels()[c], t, None)?;
         let ch = st.chosen();
         single[i] = ch.omega;
         d_single[i] = ch.delta;
@@ -542,10 +542,10 @@ pub fn coupled_uniform(
     } else {
         "compete"
     };
-    let (c1, c2) = (&model.channels[pair[0]], &model.channels[pair[1]]);
+    let (c1, c2) = (&model.channels()[pair[0]], &model.channels()[pair[1]]);
     let p1 = c1.nesting_vector(model);
     let p2 = c2.nesting_vector(model);
-    let commensurate = model.surface.map(|l| {
+    let commensurate = model.surface().map(|l| {
         let f = |p: [f64; 2]| {
             let g = l.fold([2.0 * p[0], 2.0 * p[1]]);
             g[0].hypot(g[1]) < 1e-9
@@ -557,7 +557,7 @@ pub fn coupled_uniform(
         _ => "free (a Goldstone-like phase: the gauge of the unshared pockets absorbs it)".into(),
     };
     Ok(CoupledChannels {
-        channels: [c1.label.clone(), c2.label.clone()],
+        channels: [c1.label().to_string(), c2.label().to_string()],
         deltas: d,
         omega: value,
         omega_single: single,

@@ -110,7 +110,7 @@ impl PatternSolver {
     ) -> Result<(LinePoint, Model), NestorError> {
         let model0 = base.build(None)?;
         let pinned = model0.pinned_couplings();
-        let ch0 = model0.channels.get(channel).ok_or_else(|| {
+        let ch0 = model0.channels().get(channel).ok_or_else(|| {
             NumericalError::Invalid(format!("channel index {channel} out of range"))
         })?;
         let v0 = path_value(base, path)?;
@@ -123,7 +123,7 @@ impl PatternSolver {
         };
         let margin = |v: f64| -> Result<f64, NestorError> {
             let m = model_with(base, &pinned, path, v)?;
-            let (_, gchi) = self.tc.max_over_q(&m, &m.channels[channel], t)?;
+            let (_, gchi) = self.tc.max_over_q(&m, &m.channels()[channel], t)?;
             Ok(gchi - 1.0)
         };
         let f0 = margin(v0)?;
@@ -183,7 +183,7 @@ impl PatternSolver {
                 r?.x
             };
         let model = model_with(base, &pinned, path, value)?;
-        let (q, _) = self.tc.max_over_q(&model, &model.channels[channel], t)?;
+        let (q, _) = self.tc.max_over_q(&model, &model.channels()[channel], t)?;
         let line = self.line_point_at(&model, channel, path, value, v0, t, q)?;
         Ok((line, model))
     }
@@ -201,7 +201,7 @@ impl PatternSolver {
         t: f64,
         q: [f64; 2],
     ) -> Result<LinePoint, NumericalError> {
-        let ch = &model.channels[channel];
+        let ch = &model.channels()[channel];
         let q_star = q[0].hypot(q[1]);
         let isotropic = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
         let maxima = if q_star == 0.0 {
@@ -216,7 +216,7 @@ impl PatternSolver {
             value,
             base_value,
             t,
-            mismatch: ch.mismatch,
+            mismatch: ch.mismatch(),
             q_star,
             maxima,
             isotropic,
@@ -325,11 +325,11 @@ impl PatternSolver {
         line: &LinePoint,
         structures: &[Structure],
     ) -> Result<Vec<RankedStructure>, NumericalError> {
-        let ch = &model.channels[channel];
+        let ch = &model.channels()[channel];
         let t = line.t;
         let acc = self.tc.acc;
         let alpha_at = |q: [f64; 2]| -> Result<f64, NumericalError> {
-            Ok((1.0 - self.tc.g_chi(model, ch, q, t, &acc)?) / ch.g)
+            Ok((1.0 - self.tc.g_chi(model, ch, q, t, &acc)?) / ch.g())
         };
         let on_maxima = |q: &[f64; 2]| {
             if line.isotropic {
@@ -454,13 +454,13 @@ pub struct DensityWave {
 /// 2 n_s |m_ab Delta_j| / g (charge for M = 1, spin density for M = sigma_i), and the intraband
 /// waves at q_i - q_j with amplitude 2 |n(Q)| (one of each +-Q pair).
 pub fn density_waves(model: &Model, ch: &Channel, state: &StateCandidate) -> Vec<DensityWave> {
-    let kind = match ch.spin_matrix {
+    let kind = match ch.spin_matrix() {
         crate::model::SpinMatrix::Identity => "charge",
         crate::model::SpinMatrix::X => "spin x",
         crate::model::SpinMatrix::Y => "spin y",
         crate::model::SpinMatrix::Z => "spin z",
     };
-    let fold = |p: [f64; 2]| match &model.surface {
+    let fold = |p: [f64; 2]| match &model.surface() {
         Some(l) => (l.fold(p), true),
         None => (p, false),
     };
@@ -471,7 +471,7 @@ pub fn density_waves(model: &Model, ch: &Channel, state: &StateCandidate) -> Vec
     let k = ch.nesting_vector(model);
     let mut out = Vec::new();
     for (g, d) in &state.components {
-        let amp = 2.0 * ch.spin_channels * (ch.overlap * d.norm()) / ch.g;
+        let amp = 2.0 * ch.spin_channels() * (ch.overlap() * d.norm()) / ch.g();
         if amp <= 0.0 {
             continue;
         }
@@ -585,8 +585,8 @@ pub fn single_wavevector_candidates(
     solver: &crate::solvers::ordered::OrderedSolver,
 ) -> Result<Vec<StateCandidate>, NumericalError> {
     use crate::solvers::ordered::{plane_wave_q_scale, StateKind};
-    let ch = &model.channels[channel];
-    let ns = ch.spin_channels;
+    let ch = &model.channels()[channel];
+    let ns = ch.spin_channels();
     let qs = plane_wave_q_scale(model, ch, t);
     let states = solver.solve(model, ch, t, Some(qs))?;
     let mut out = vec![StateCandidate {
@@ -648,8 +648,8 @@ pub fn structure_candidates(
     every: bool,
 ) -> Result<Vec<StateCandidate>, NumericalError> {
     use crate::solvers::pattern_state::{solve_structure, HarmonicCheck, PatternOptions};
-    let ch = &model.channels[channel];
-    let ns = ch.spin_channels;
+    let ch = &model.channels()[channel];
+    let ns = ch.spin_channels();
     let plane = single.iter().find(|c| c.name == "plane");
     let q_len = plane
         .and_then(|p| p.components.first())
@@ -697,7 +697,7 @@ pub fn structure_candidates(
         // once the plane-wave gap. The lowest Omega among the ordered solutions is kept.
         let mut best: Option<crate::solvers::pattern_state::PatternState> = None;
         let mut failure = None;
-        let above = ch.cutoff / (1.0 / ch.lambda().max(1e-3)).sinh();
+        let above = ch.cutoff() / (1.0 / ch.lambda().max(1e-3)).sinh();
         for a in [above.max(1.5 * start), 1.5 * start, start].map(|a| a / (n as f64).sqrt()) {
             match solve_structure(model, channel, &qs, &r.phases, t, a, &opts) {
                 Ok(st) if !st.normal => {

@@ -225,7 +225,7 @@ fn iterate(
     opts: &PatternOptions,
     amplitude_scale: f64,
 ) -> Result<Solved, NumericalError> {
-    let g = model.channels[ch].g;
+    let g = model.channels()[ch].g();
     let orbits = sym.orbits(set.fourier.len());
     let mut acc = Anderson::new(opts.memory, opts.mixing);
     let mut x = x0;
@@ -303,7 +303,7 @@ pub fn solve_structure(
     opts: &PatternOptions,
 ) -> Result<PatternState, NumericalError> {
     let c = model
-        .channels
+        .channels()
         .get(ch)
         .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
     if phases.len() != wavevectors.len() {
@@ -346,8 +346,8 @@ pub fn solve_structure(
         let change = (fine.omega - solved.eval.omega).abs();
         // Relative to Omega, with a floor at the scale of the starting state (a solution that
         // fell far below it is judged against that scale, not against its own tiny Omega).
-        let start_scale = 1e-2 * wavevectors.len() as f64 * start_amplitude * start_amplitude / c.g;
-        let target = grid.rtol * omega_scale(fine.omega, &solved.x, c.g).max(start_scale);
+        let start_scale = 1e-2 * wavevectors.len() as f64 * start_amplitude * start_amplitude / c.g();
+        let target = grid.rtol * omega_scale(fine.omega, &solved.x, c.g()).max(start_scale);
         if change <= target {
             break (fine, change);
         }
@@ -429,7 +429,7 @@ pub fn solve_structure(
             .collect(),
         omega: fine.omega,
         omega_error,
-        spin_channels: c.spin_channels,
+        spin_channels: c.spin_channels(),
         iterations,
         residual: solved.residual,
         harmonic_change,

@@ -236,7 +236,7 @@ fn column(
     os: &OrderedSolver,
     value: f64,
 ) -> Result<Column, NestorError> {
-    let ch = &m.channels[opts.channel];
+    let ch = &m.channels()[opts.channel];
     let u = tc.uniform(m, ch)?;
     let md = tc.modulated(m, ch, &u)?;
     let (t_u, beta, curv) = if u.status == TcStatus::Unstable {
@@ -253,13 +253,13 @@ fn column(
         let qs = want_pw.then(|| plane_wave_q_scale(m, ch, t).max(2.0 * md.q[0].hypot(md.q[1])));
         if opts.fixed_density {
             let lambda = ch.lambda().max(1e-3);
-            let d0 = ch.cutoff / (1.0 / lambda).sinh();
+            let d0 = ch.cutoff() / (1.0 / lambda).sinh();
             let min_offset = m
-                .pockets
+                .pockets()
                 .iter()
                 .map(|p| p.offset().abs())
                 .fold(f64::INFINITY, f64::min);
-            let window = (2.0 * (ch.mismatch.abs() + d0) + 4.0 * t).min(0.5 * min_offset);
+            let window = (2.0 * (ch.mismatch().abs() + d0) + 4.0 * t).min(0.5 * min_offset);
             let cell = canonical_state(os, m, opts.channel, t, window).map(|c| Cell {
                 state: if c.state == "normal" {
                     StateKind::Normal
@@ -333,7 +333,7 @@ pub fn phase_diagram(
             "phases: give exactly one --vary range (the temperature is the other axis)",
         ));
     }
-    if opts.channel >= base_model.channels.len() {
+    if opts.channel >= base_model.channels().len() {
         return Err(InputError::new(
             "phases: the configuration has no such channel",
         ));
@@ -391,7 +391,7 @@ pub fn phase_diagram(
         base.with_overrides(&[range.at(x)])
             .and_then(|s| s.build(Some(&pinned)))
             .ok()
-            .and_then(|m| tc.uniform(&m, &m.channels[opts.channel]).ok())
+            .and_then(|m| tc.uniform(&m, &m.channels()[opts.channel]).ok())
             .is_some_and(|u| u.status == TcStatus::Unstable)
     };
     // Failures of the special-point searches are recorded, so that "none in range" is not
@@ -434,7 +434,7 @@ pub fn phase_diagram(
                         .with_overrides(&[o])
                         .and_then(|s| s.build(Some(&pinned)))
                         .map_err(|e| NumericalError::Invalid(e.to_string()))?;
-                    let ch = &m.channels[opts.channel];
+                    let ch = &m.channels()[opts.channel];
                     let u = tc.uniform(&m, ch)?;
                     if u.status != TcStatus::Unstable {
                         return Err(NumericalError::Invalid(format!(
@@ -469,7 +469,7 @@ pub fn phase_diagram(
                         return None;
                     }
                 };
-                let ch = &m.channels[opts.channel];
+                let ch = &m.channels()[opts.channel];
                 let (u, md) = match tc
                     .uniform(&m, ch)
                     .and_then(|u| Ok((u.clone(), tc.modulated(&m, ch, &u)?)))

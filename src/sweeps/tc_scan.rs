@@ -25,7 +25,7 @@ pub fn scan_tc(
     threads: Option<usize>,
     progress: bool,
 ) -> Result<Vec<ScanPoint>, InputError> {
-    if base_model.channels.is_empty() {
+    if base_model.channels().is_empty() {
         return Err(InputError::new(format!(
             "{}: the configuration has no [[channel]]: nothing to scan",
             base.origin
@@ -39,7 +39,7 @@ pub fn scan_tc(
         let result = model_at(base, &pinned, grid, i)
             .map_err(|e| e.to_string())
             .and_then(|m| {
-                m.channels
+                m.channels()
                     .iter()
                     .map(|ch| channel_tc(&m, ch, solver, method).map_err(|e| e.to_string()))
                     .collect::<Result<Vec<_>, String>>()
