@@ -750,10 +750,10 @@ fn run_phases(
         }
         None => {
             // 1.2 times the highest modulated Tc at the ends and the middle of the axis.
-            let pinned = model.pinned_couplings();
+            let sweep = nestor::sweeps::Sweep::new(src, model, grid)?;
             let mut best: f64 = 0.0;
             for i in [0, grid.len() / 2, grid.len() - 1] {
-                let m = nestor::sweeps::model_at(src, &pinned, grid, i)?;
+                let m = sweep.model_at(i)?;
                 let ch = &m.channels()[channel];
                 let u = tc.uniform(&m, ch).map_err(NestorError::from)?;
                 best = best.max(u.tc);
@@ -787,8 +787,7 @@ fn run_phases(
     let mut d = phase_diagram(src, model, grid, &opts, &tc, &OrderedSolver::default())?;
     if !a.fixed_density && a.structure_marks > 0 {
         nestor::sweeps::phase_map::mark_structures(
-            src,
-            grid,
+            &nestor::sweeps::Sweep::new(src, model, grid)?,
             &mut d,
             &PatternSolver::default(),
             a.structure_marks,

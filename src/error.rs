@@ -29,6 +29,14 @@ pub enum NumericalError {
     NotBracketed { what: String, lo: f64, hi: f64 },
     #[error("{0}")]
     Invalid(String),
+    /// A search stopped because the model could not be built at a point it tried (an input
+    /// error, handed back as such by the search's caller).
+    #[error("{what}: stopped at {at}: {reason}")]
+    Stopped {
+        what: String,
+        at: f64,
+        reason: InputError,
+    },
     /// The model with every offset shifted (a fixed-density search) is not a valid model.
     #[error("no valid model with the offsets shifted by {shift} meV: {reason}")]
     ShiftedModel { shift: f64, reason: String },

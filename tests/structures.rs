@@ -365,10 +365,11 @@ fn nonlinear_states_approach_the_landau_minimum_at_the_line() {
             &PatternSolver::candidate_structures(&line, &[]),
         )
         .unwrap();
-    let pinned = src.build(None).unwrap().pinned_couplings();
+    let base = src.build(None).unwrap();
+    let param = base.param("h", "offset", None).unwrap();
     let q1 = line.maxima[0];
     let ratio = |name: &str, d: f64| -> f64 {
-        let m = model_with(&src, &pinned, "h.offset", line.value - d).unwrap();
+        let m = model_with(&base, param, line.value - d).unwrap();
         let ch = &m.channels()[0];
         let gchi = TcSolver::default()
             .g_chi(&m, ch, q1, t, &Accuracy::default())

@@ -5,16 +5,26 @@
 //! isotropic mass, `B.mass.x=0.3` sets one axis).
 
 use crate::error::InputError;
+use crate::model::{Model, Param, CHANNEL_KEYS, POCKET_KEYS, SURFACE_KEYS};
 use toml::{Table, Value};
 
-/// Numeric pocket keys that may be overridden.
-pub const POCKET_KEYS: &[&str] = &[
-    "offset", "mass", "velocity", "kf", "vf", "angle", "center", "phase",
-];
-/// Numeric channel keys that may be overridden.
-pub const CHANNEL_KEYS: &[&str] = &["lambda", "g", "cutoff", "overlap"];
-/// Numeric surface keys.
-pub const SURFACE_KEYS: &[&str] = &["a", "b"];
+/// Resolves `target.key[component]` against `model` into a typed parameter and checks that the
+/// pocket or channel can take it (setting it to its present value). Messages name the file and
+/// the path as `--set`/`--vary` do.
+fn resolve(
+    origin: &str,
+    path: &str,
+    model: &Model,
+    (target, key, component): (&str, &str, Option<usize>),
+) -> Result<Param, InputError> {
+    let p = model
+        .param(target, key, component)
+        .map_err(|e| InputError::new(format!("{origin}: --set/--vary {path}: {e}")))?;
+    model
+        .with(&[(p, model.value(p))])
+        .map_err(|e| InputError::new(format!("{origin}: {e}")))?;
+    Ok(p)
+}
 
 /// One override: target name, key, optional component, value.
 #[derive(Debug, Clone, PartialEq)]
@@ -51,6 +61,12 @@ impl Override {
             component,
             value,
         })
+    }
+
+    /// The typed parameter this override sets in `model` (built from the file `origin`).
+    pub fn resolve(&self, origin: &str, model: &Model) -> Result<Param, InputError> {
+        let parts = (self.target.as_str(), self.key.as_str(), self.component);
+        resolve(origin, &self.path(), model, parts)
     }
 
     pub fn path(&self) -> String {
@@ -93,6 +109,11 @@ impl Range {
 
     pub fn path(&self) -> String {
         self.at(0.0).path()
+    }
+
+    /// The typed parameter this range varies in `model` (built from the file `origin`).
+    pub fn resolve(&self, origin: &str, model: &Model) -> Result<Param, InputError> {
+        self.at(0.0).resolve(origin, model)
     }
 }
 

@@ -1,7 +1,7 @@
 //! Critical temperatures over a parameter grid: per point and channel, the uniform and modulated
 //! Tc and q*, by the exact integral or the weak-coupling closed form.
 
-use super::{model_at, par_map, Grid};
+use super::{par_map, Grid, Sweep};
 use crate::config::ConfigSource;
 use crate::error::InputError;
 use crate::model::Model;
@@ -31,12 +31,12 @@ pub fn scan_tc(
             base.origin
         )));
     }
-    let pinned = base_model.pinned_couplings();
-    // Check the first point's overrides up front so that a bad PATH fails before the sweep.
-    base.with_overrides(&grid.overrides(0))?;
+    // Resolve the paths up front so that a bad PATH fails before the sweep.
+    let sweep = Sweep::new(base, base_model, grid)?;
     Ok(par_map(grid.len(), threads, progress, |i| {
         let values = grid.values(i);
-        let result = model_at(base, &pinned, grid, i)
+        let result = sweep
+            .model_at(i)
             .map_err(|e| e.to_string())
             .and_then(|m| {
                 m.channels()
