@@ -27,8 +27,39 @@ pub enum NumericalError {
     },
     #[error("{what}: no sign change found in [{lo:.6e}, {hi:.6e}]")]
     NotBracketed { what: String, lo: f64, hi: f64 },
+    /// The shell |xi| < cutoff is empty at this q.
+    #[error("the shell is empty: xi >= {xi_centre:.4} meV everywhere at q = ({:.4}, {:.4})/nm", q[0], q[1])]
+    EmptyShell { xi_centre: f64, q: [f64; 2] },
+    /// The shell reaches a Dirac point, where the band form factor is singular.
     #[error("{0}")]
-    Invalid(String),
+    DiracPointInShell(String),
+    /// A finite-temperature quantity was asked for at T <= 0 (meV).
+    #[error("{what} needs T > 0 (got {t} meV)")]
+    NonPositiveTemperature { what: String, t: f64 },
+    /// A channel stays unstable up to the highest temperature searched.
+    #[error("{0}")]
+    UnstableAtTop(String),
+    /// Two maxima of chi(q) compete for the modulated instability.
+    #[error("{0}")]
+    CompetingMaxima(String),
+    /// Omega has no (or lost its) minimum where one was required.
+    #[error("{0}")]
+    NoMinimum(String),
+    /// A one-dimensional search failed for another reason than convergence or bracketing.
+    #[error("{0}")]
+    RootSearch(String),
+    /// The weak-coupling closed form does not apply.
+    #[error("weak-coupling closed form: {0}")]
+    WeakClosedForm(String),
+    /// A special-point search met a point without a uniform instability.
+    #[error("{what}: no uniform instability at {at}")]
+    NoUniformInstability { what: String, at: f64 },
+    /// The arguments of a computation are inconsistent (an index, a count, a wavevector set).
+    #[error("{0}")]
+    BadArgument(String),
+    /// A combination the mean field does not handle.
+    #[error("{0}")]
+    Unsupported(String),
     /// A search stopped because the model could not be built at a point it tried (an input
     /// error, handed back as such by the search's caller).
     #[error("{what}: stopped at {at}: {reason}")]

@@ -186,12 +186,12 @@ impl HarmonicSet {
     /// (1/nm, distinct).
     pub fn new(wavevectors: &[[f64; 2]], order: usize) -> Result<Self, NumericalError> {
         if wavevectors.is_empty() {
-            return Err(NumericalError::Invalid(
+            return Err(NumericalError::BadArgument(
                 "a structure needs at least one wavevector".into(),
             ));
         }
         if order == 0 {
-            return Err(NumericalError::Invalid(
+            return Err(NumericalError::BadArgument(
                 "the harmonic order must be at least 1".into(),
             ));
         }
@@ -199,7 +199,7 @@ impl HarmonicSet {
             .iter()
             .any(|q| !q[0].is_finite() || !q[1].is_finite())
         {
-            return Err(NumericalError::Invalid("wavevectors must be finite".into()));
+            return Err(NumericalError::BadArgument("wavevectors must be finite".into()));
         }
         let qmax = wavevectors
             .iter()
@@ -208,7 +208,7 @@ impl HarmonicSet {
         let tol = 1e-9 * qmax + 1e-15;
         for (i, q) in wavevectors.iter().enumerate() {
             if wavevectors[..i].iter().any(|p| same(*p, *q, tol)) {
-                return Err(NumericalError::Invalid(format!(
+                return Err(NumericalError::BadArgument(format!(
                     "wavevector ({:.6}, {:.6})/nm is given twice",
                     q[0], q[1]
                 )));
@@ -307,7 +307,7 @@ impl HarmonicSet {
             match self.index(*g) {
                 Some(i) => out[i] += *d,
                 None => {
-                    return Err(NumericalError::Invalid(format!(
+                    return Err(NumericalError::BadArgument(format!(
                         "component G = ({:.6}, {:.6})/nm is not in the Fourier set of order {}",
                         g[0], g[1], self.order
                     )))
@@ -1168,16 +1168,16 @@ pub fn omega_on_grid(
     let c = model
         .channels()
         .get(ch)
-        .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
+        .ok_or_else(|| NumericalError::BadArgument(format!("channel index {ch} is out of range")))?;
     if deltas.len() != set.fourier.len() {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "{} components given for a Fourier set of {}",
             deltas.len(),
             set.fourier.len()
         )));
     }
     if !t.is_finite() || t < 0.0 {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "temperature must be finite and >= 0 (got {t} meV)"
         )));
     }
@@ -1189,7 +1189,7 @@ pub fn omega_on_grid(
         || grid.panel_temperatures.is_nan()
         || grid.panel_temperatures <= 0.0
     {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "invalid harmonic grid {grid:?}"
         )));
     }
@@ -1402,7 +1402,7 @@ fn check_dirac_points(
         for (ka, kb) in points {
             let xi = 0.5 * (a.energy(ka) - b.energy(kb));
             if xi >= -cutoff {
-                return Err(NumericalError::Invalid(format!(
+                return Err(NumericalError::DiracPointInShell(format!(
                     "the shell |xi| < {cutoff} meV of the harmonic G = ({:.4}, {:.4})/nm reaches a Dirac point (xi = {xi:.4} meV there): lower the cutoff or the harmonic order",
                     g[0], g[1]
                 )));
@@ -1437,7 +1437,7 @@ pub fn omega_multi(
     let sym = ray_symmetry(model, ch, set, deltas);
     let g =
         model.channels().get(ch).map(|c| c.g()).ok_or_else(|| {
-            NumericalError::Invalid(format!("channel index {ch} is out of range"))
+            NumericalError::BadArgument(format!("channel index {ch} is out of range"))
         })?;
     let mut grid = *grid;
     let mut prev = omega_on_grid(

@@ -26,14 +26,14 @@ pub fn omega_uniform_channels(
     acc: &Accuracy,
 ) -> Result<Estimate, NumericalError> {
     if channels.len() != deltas.len() || channels.is_empty() {
-        return Err(NumericalError::Invalid(
+        return Err(NumericalError::BadArgument(
             "one gap per channel is needed".into(),
         ));
     }
     let chans: Vec<_> = channels.iter().map(|&i| &model.channels()[i]).collect();
     let ns = chans[0].spin_channels();
     if chans.iter().any(|c| c.spin_channels() != ns) {
-        return Err(NumericalError::Invalid(
+        return Err(NumericalError::Unsupported(
             "channels with different numbers of spin channels cannot share one mean field here"
                 .into(),
         ));

@@ -141,9 +141,10 @@ pub fn quadruple_loop(
     acc: &Accuracy,
 ) -> Result<LoopValue, NumericalError> {
     if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
-        return Err(NumericalError::Invalid(format!(
-            "the quartic coefficient needs T > 0 (got {t} meV)"
-        )));
+        return Err(NumericalError::NonPositiveTemperature {
+            what: "the quartic coefficient".into(),
+            t,
+        });
     }
     let scale = q
         .iter()
@@ -155,7 +156,7 @@ pub fn quadruple_loop(
         q[0][1] - q[1][1] + q[2][1] - q[3][1],
     ];
     if miss[0].hypot(miss[1]) > 1e-9 * scale {
-        return Err(NumericalError::Invalid(
+        return Err(NumericalError::BadArgument(
             "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
         ));
     }

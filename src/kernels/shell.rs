@@ -158,7 +158,7 @@ impl<'m> Shell<'m> {
             for c in candidates {
                 let x = shell.at(c).xi();
                 if x >= -cutoff {
-                    return Err(NumericalError::Invalid(format!(
+                    return Err(NumericalError::DiracPointInShell(format!(
                         "the shell |xi| < {cutoff} meV reaches a Dirac point (xi = {x:.4} meV there at q = ({:.4}, {:.4})/nm): the cutoff must be below {:.4} meV",
                         q[0], q[1], -x
                     )));
@@ -172,10 +172,10 @@ impl<'m> Shell<'m> {
         shell.xi_centre = shell.at(shell.centre).xi();
         shell.xi_lo = shell.xi_centre.max(-cutoff);
         if shell.xi_centre >= cutoff {
-            return Err(NumericalError::Invalid(format!(
-                "the shell is empty: xi >= {:.4} meV everywhere at q = ({:.4}, {:.4})/nm",
-                shell.xi_centre, q[0], q[1]
-            )));
+            return Err(NumericalError::EmptyShell {
+                xi_centre: shell.xi_centre,
+                q,
+            });
         }
         let circular = a.is_isotropic() && b.is_isotropic();
         shell.isotropic = circular && form.is_rotation_invariant();

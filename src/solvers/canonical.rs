@@ -204,7 +204,7 @@ pub fn canonical_state(
         .x;
         let (nn, u) = uniform_at(os, model, channel, sc, t)?;
         let (nu, d, _) = u.ok_or_else(|| {
-            NumericalError::Invalid("the uniform minimum vanished at the first-order point".into())
+            NumericalError::NoMinimum("the uniform minimum vanished at the first-order point".into())
         })?;
         let (lo, hi) = (nn.min(nu), nn.max(nu));
         if target > lo && target < hi {
@@ -240,7 +240,7 @@ pub fn canonical_state(
         let f = |s: f64| -> Result<f64, NumericalError> {
             match uniform_at(os, model, channel, s, t)?.1 {
                 Some(u) => Ok(u.0 - target),
-                None => Err(NumericalError::Invalid(
+                None => Err(NumericalError::NoMinimum(
                     "the uniform minimum vanished".into(),
                 )),
             }

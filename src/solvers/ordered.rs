@@ -381,7 +381,7 @@ impl OrderedSolver {
             .min_by(|a, b| a.1.omega.total_cmp(&b.1.omega))
             .map(|(i, _)| i)
             .ok_or_else(|| {
-                NumericalError::Invalid(format!(
+                NumericalError::NoMinimum(format!(
                     "channel {}: Omega has no minimum on the gap grid at T = {t:.4e} meV (the normal state is unstable); refine the grid",
                     ch.label()
                 ))

@@ -140,7 +140,7 @@ impl PatternSolver {
     ) -> Result<(LinePoint, Model), NestorError> {
         let model0 = base.build(None)?;
         let ch0 = model0.channels().get(channel).ok_or_else(|| {
-            NumericalError::Invalid(format!("channel index {channel} out of range"))
+            NumericalError::BadArgument(format!("channel index {channel} out of range"))
         })?;
         let (param, v0) = path_value(base, &model0, path)?;
         let energy_like = path.ends_with(".offset");
@@ -350,7 +350,7 @@ impl PatternSolver {
         let mut out = Vec::with_capacity(structures.len());
         for s in structures {
             if s.is_empty() {
-                return Err(NumericalError::Invalid(format!(
+                return Err(NumericalError::BadArgument(format!(
                     "structure {} has no wavevectors",
                     s.name
                 )));

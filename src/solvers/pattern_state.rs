@@ -305,16 +305,16 @@ pub fn solve_structure(
     let c = model
         .channels()
         .get(ch)
-        .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
+        .ok_or_else(|| NumericalError::BadArgument(format!("channel index {ch} is out of range")))?;
     if phases.len() != wavevectors.len() {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "{} phases given for {} wavevectors",
             phases.len(),
             wavevectors.len()
         )));
     }
     if !start_amplitude.is_finite() || start_amplitude <= 0.0 {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "the starting amplitude must be positive (got {start_amplitude} meV)"
         )));
     }
@@ -465,7 +465,7 @@ pub fn omega_at_amplitude(
     grid: &HarmonicGrid,
 ) -> Result<(f64, f64), NumericalError> {
     if phases.len() != wavevectors.len() {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "{} phases given for {} wavevectors",
             phases.len(),
             wavevectors.len()

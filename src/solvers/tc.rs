@@ -146,7 +146,7 @@ impl TcSolver {
             }
             t *= 2.0;
         }
-        Err(NumericalError::Invalid(format!(
+        Err(NumericalError::UnstableAtTop(format!(
             "channel {}: g chi stays above 1 up to T = {t:.3e} meV",
             ch.label()
         )))
@@ -168,7 +168,7 @@ impl TcSolver {
         let ratio = 0.8;
         let mut prev = (t_top, f(t_top)?);
         if prev.1 >= 0.0 {
-            return Err(NumericalError::Invalid(format!(
+            return Err(NumericalError::UnstableAtTop(format!(
                 "{what}: unstable at the top temperature {t_top:.4e} meV"
             )));
         }
@@ -869,7 +869,7 @@ impl TcSolver {
     }
 
     fn competing(&self, ch: &Channel, qg: [f64; 2], q: [f64; 2]) -> NumericalError {
-        NumericalError::Invalid(format!(
+        NumericalError::CompetingMaxima(format!(
             "modulated Tc of channel {}: a second maximum of chi(q) at q = ({:.4e}, {:.4e})/nm competes with q = ({:.4e}, {:.4e})/nm",
             ch.label(), qg[0], qg[1], q[0], q[1]
         ))
@@ -894,7 +894,7 @@ impl TcSolver {
         let t_stop = bottom.t();
         let top = self.scan_point(model, ch, t_top, iso, None, count)?;
         if top.value >= 1.0 {
-            return Err(NumericalError::Invalid(format!(
+            return Err(NumericalError::UnstableAtTop(format!(
                 "{what}: unstable at the top temperature {t_top:.4e} meV"
             )));
         }
@@ -1288,7 +1288,7 @@ where
     F: FnMut(f64) -> Result<f64, NumericalError>,
 {
     if !(step > 0.0 && step.is_finite() && x0.is_finite()) {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::RootSearch(format!(
             "{what}: bad starting step {step:e} at {x0:e}"
         )));
     }

@@ -72,9 +72,7 @@ pub fn channel_tc(
 }
 
 fn weak_err(e: weak::WeakError) -> NestorError {
-    NestorError::Numerical(NumericalError::Invalid(format!(
-        "weak-coupling closed form: {e}"
-    )))
+    NestorError::Numerical(NumericalError::WeakClosedForm(e.to_string()))
 }
 
 fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError> {

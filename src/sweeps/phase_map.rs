@@ -440,9 +440,10 @@ pub fn phase_diagram(
                     let ch = &m.channels()[opts.channel];
                     let u = tc.uniform(&m, ch)?;
                     if u.status != TcStatus::Unstable {
-                        return Err(NumericalError::Invalid(format!(
-                            "{what}: no uniform instability at {x}"
-                        )));
+                        return Err(NumericalError::NoUniformInstability {
+                            what: what.to_string(),
+                            at: x,
+                        });
                     }
                     if which == 0 {
                         Ok(
