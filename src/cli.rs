@@ -390,7 +390,9 @@ pub fn run(cli: Cli) -> Result<Outcome, Failure> {
             for i in 0..model.channels().len() {
                 for j in i + 1..model.channels().len() {
                     let (ci, cj) = (&model.channels()[i], &model.channels()[j]);
-                    let share = [ci.a(), ci.b()].iter().any(|p| *p == cj.a() || *p == cj.b());
+                    let share = [ci.a(), ci.b()]
+                        .iter()
+                        .any(|p| *p == cj.a() || *p == cj.b());
                     if share && ci.spin_channels() == cj.spin_channels() {
                         let c =
                             coupled_uniform(&s, &model, [i, j], t).map_err(NestorError::from)?;

@@ -77,7 +77,11 @@ fn opposite_windings_halve_the_pair_density_of_states() {
     // Hand formula: nu = E_F / (2 pi (hbar v)^2) per spin channel for a cone (common practice).
     let nu1 = 100.0 / (2.0 * PI * 300.0 * 300.0);
     assert!((p.nu() / nu1 - 1.0).abs() < 1e-9);
-    assert!((h.nu() / p.nu() - 0.5).abs() < 1e-9, "ratio {}", h.nu() / p.nu());
+    assert!(
+        (h.nu() / p.nu() - 0.5).abs() < 1e-9,
+        "ratio {}",
+        h.nu() / p.nu()
+    );
     assert_eq!(p.spin_channels(), 2.0);
     assert_eq!(h.spin_channels(), 1.0);
     let solver = TcSolver::default();

@@ -171,7 +171,8 @@ fn tricritical_point_and_quartic_closed_form() {
     // The closed form integrates xi to infinity; the shell stops at the cutoff, where the loop
     // integrand is 1/(4 xi^3) per unit nu, so the shell value is lower by nu/(4 cutoff^2)
     // (exact up to exp(-cutoff/T) terms).
-    let closed = ch.nu() * weak::quartic_weak(0.8, 0.5) / (t0 * t0) - ch.nu() / (4.0 * CUTOFF * CUTOFF);
+    let closed =
+        ch.nu() * weak::quartic_weak(0.8, 0.5) / (t0 * t0) - ch.nu() / (4.0 * CUTOFF * CUTOFF);
     assert!(
         (loop_beta / closed - 1.0).abs() < 1e-6,
         "{loop_beta} vs {closed}"

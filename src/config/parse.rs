@@ -5,8 +5,8 @@
 use super::PinnedCouplings;
 use crate::error::InputError;
 use crate::model::{
-    ChannelSpec, CouplingInput, DispersionSpec, Lattice, Model, PocketKind, PocketSpec, SpinSpec,
-    SpinMatrix,
+    ChannelSpec, CouplingInput, DispersionSpec, Lattice, Model, PocketKind, PocketSpec, SpinMatrix,
+    SpinSpec,
 };
 use toml::{Table, Value};
 
@@ -364,7 +364,6 @@ pub(super) fn build_model(
     origin: &str,
     table: &Table,
     pinned: Option<&PinnedCouplings>,
-    unpinned: &[String],
 ) -> Result<Model, InputError> {
     let top = Ctx {
         origin,
@@ -398,26 +397,20 @@ pub(super) fn build_model(
     let mut channels = Vec::new();
     let mut pins = Vec::new();
     for (i, v) in channels_v.iter().enumerate() {
-        let (spec, label) = parse_channel(origin, i, v, &pockets)?;
-        let pin = pinned.and_then(|p| p.0.get(i).copied()).filter(|_| {
-            !unpinned
-                .iter()
-                .any(|u| u == &label || Some(u) == spec.name.as_ref())
-        });
-        pins.push(pin);
-        channels.push(spec);
+        channels.push(parse_channel(origin, i, v, &pockets)?);
+        pins.push(pinned.and_then(|p| p.0.get(i).copied()));
     }
     Model::new_pinned(pockets, channels, surface, &pins)
         .map_err(|e| InputError::new(format!("{origin}: {e}")))
 }
 
-/// One `[[channel]]` entry as a spec, with its label (the name, or "A-B").
+/// One `[[channel]]` entry as a spec.
 fn parse_channel(
     origin: &str,
     i: usize,
     v: &Value,
     pockets: &[PocketSpec],
-) -> Result<(ChannelSpec, String), InputError> {
+) -> Result<ChannelSpec, InputError> {
     let mut ctx = Ctx {
         origin,
         entry: format!("[[channel]] #{}", i + 1),
@@ -456,15 +449,14 @@ fn parse_channel(
         Some(v) => number(&ctx, "overlap", v, "an orbital overlap factor in [0, 10]")?,
     };
     let coupling = parse_coupling(&ctx, t)?;
-    let spec = ChannelSpec {
+    Ok(ChannelSpec {
         name,
         pockets: pair,
         coupling,
         cutoff,
         spin_matrix,
         overlap,
-    };
-    Ok((spec, label))
+    })
 }
 
 /// The two pocket names of a channel, resolved to indices.

@@ -199,7 +199,9 @@ impl HarmonicSet {
             .iter()
             .any(|q| !q[0].is_finite() || !q[1].is_finite())
         {
-            return Err(NumericalError::BadArgument("wavevectors must be finite".into()));
+            return Err(NumericalError::BadArgument(
+                "wavevectors must be finite".into(),
+            ));
         }
         let qmax = wavevectors
             .iter()
@@ -1165,10 +1167,9 @@ pub fn omega_on_grid(
     symmetry: &RaySymmetry,
     derivatives: bool,
 ) -> Result<MultiOmega, NumericalError> {
-    let c = model
-        .channels()
-        .get(ch)
-        .ok_or_else(|| NumericalError::BadArgument(format!("channel index {ch} is out of range")))?;
+    let c = model.channels().get(ch).ok_or_else(|| {
+        NumericalError::BadArgument(format!("channel index {ch} is out of range"))
+    })?;
     if deltas.len() != set.fourier.len() {
         return Err(NumericalError::BadArgument(format!(
             "{} components given for a Fourier set of {}",
@@ -1435,10 +1436,9 @@ pub fn omega_multi(
     derivatives: bool,
 ) -> Result<MultiOmega, NumericalError> {
     let sym = ray_symmetry(model, ch, set, deltas);
-    let g =
-        model.channels().get(ch).map(|c| c.g()).ok_or_else(|| {
-            NumericalError::BadArgument(format!("channel index {ch} is out of range"))
-        })?;
+    let g = model.channels().get(ch).map(|c| c.g()).ok_or_else(|| {
+        NumericalError::BadArgument(format!("channel index {ch} is out of range"))
+    })?;
     let mut grid = *grid;
     let mut prev = omega_on_grid(
         model,

@@ -127,8 +127,7 @@ fn check_channel_name(
     let Some(n) = &spec.name else {
         return Ok(());
     };
-    if pockets.iter().any(|p| &p.name == n) || earlier.iter().any(|c| c.name.as_ref() == Some(n))
-    {
+    if pockets.iter().any(|p| &p.name == n) || earlier.iter().any(|c| c.name.as_ref() == Some(n)) {
         return Err(key_error(
             &format!("[[channel]] #{}", i + 1),
             "name",
@@ -153,7 +152,11 @@ pub(super) fn channel_label(pockets: &[Pocket], spec: &ChannelSpec) -> (String, 
 }
 
 /// The pockets must exist, differ, and be electron-like then hole-like.
-fn check_channel_pockets(pockets: &[Pocket], spec: &ChannelSpec, entry: &str) -> Result<(), InputError> {
+fn check_channel_pockets(
+    pockets: &[Pocket],
+    spec: &ChannelSpec,
+    entry: &str,
+) -> Result<(), InputError> {
     let [a, b] = spec.pockets;
     if a >= pockets.len() || b >= pockets.len() {
         return Err(key_error(entry, "pockets", "pocket index out of range"));

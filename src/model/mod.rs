@@ -6,6 +6,8 @@
 //! momenta in 1/nm measured from each pocket's centre, hbar v in meV nm, masses in electron masses.
 
 mod build;
+#[cfg(test)]
+mod build_tests;
 mod params;
 pub mod pocket;
 mod spec;
@@ -246,7 +248,10 @@ impl Channel {
     }
     /// Nesting vector K_a - K_b (1/nm), given the model's pockets.
     pub fn nesting_vector(&self, model: &Model) -> [f64; 2] {
-        let (ka, kb) = (model.pockets[self.a].center(), model.pockets[self.b].center());
+        let (ka, kb) = (
+            model.pockets[self.a].center(),
+            model.pockets[self.b].center(),
+        );
         [ka[0] - kb[0], ka[1] - kb[1]]
     }
 }

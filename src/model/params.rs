@@ -161,11 +161,19 @@ impl Model {
                 DispersionSpec::Mass { offset, .. } | DispersionSpec::Cone { offset, .. } => offset,
                 DispersionSpec::FermiPoint { .. } => self.pockets[i].offset() - self.shift,
             },
-            Param::Mass { pocket: i, component } => match pocket(i).dispersion {
+            Param::Mass {
+                pocket: i,
+                component,
+            } => match pocket(i).dispersion {
                 DispersionSpec::Mass { mass, .. } => pair(mass, component),
-                _ => self.pockets[i].masses().map_or(f64::NAN, |m| pair(m, component)),
+                _ => self.pockets[i]
+                    .masses()
+                    .map_or(f64::NAN, |m| pair(m, component)),
             },
-            Param::Velocity { pocket: i, component } => match pocket(i).dispersion {
+            Param::Velocity {
+                pocket: i,
+                component,
+            } => match pocket(i).dispersion {
                 DispersionSpec::Cone { velocity, .. } => pair(velocity, component),
                 _ => f64::NAN,
             },
@@ -175,7 +183,10 @@ impl Model {
                 _ => f64::NAN,
             },
             Param::Angle { pocket: i } => pocket(i).angle_deg,
-            Param::Center { pocket: i, component } => pocket(i).center[component],
+            Param::Center {
+                pocket: i,
+                component,
+            } => pocket(i).center[component],
             Param::SpinPhase { pocket: i } => match pocket(i).spin {
                 SpinSpec::Helical { phase_deg, .. } => phase_deg,
                 SpinSpec::Degenerate => 0.0,
@@ -191,7 +202,11 @@ impl Model {
                 CouplingInput::Lambda(_) => self.channels[channel].g,
             },
             Param::LatticeA => match self.surface {
-                Some(Lattice::Square { a } | Lattice::Hexagonal { a } | Lattice::Rectangular { a, .. }) => a,
+                Some(
+                    Lattice::Square { a }
+                    | Lattice::Hexagonal { a }
+                    | Lattice::Rectangular { a, .. },
+                ) => a,
                 None => f64::NAN,
             },
             Param::LatticeB => match self.surface {
@@ -314,8 +329,15 @@ fn set_pocket(pockets: &mut [super::PocketSpec], p: Param, v: f64) -> Result<(),
         Some(c) => pair[c] = v,
         None => *pair = [v, v],
     };
-    let not_both = || entry_error(&entry, "give either `mass` + `offset`, or `kf` + `vf`, not both");
-    let dirac_only = |key: &str| key_error(&entry, key, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)");
+    let not_both = || {
+        entry_error(
+            &entry,
+            "give either `mass` + `offset`, or `kf` + `vf`, not both",
+        )
+    };
+    let dirac_only = |key: &str| {
+        key_error(&entry, key, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)")
+    };
     match (p, &mut spec.dispersion) {
         (Param::Angle { .. }, _) => spec.angle_deg = v,
         (Param::Center { component, .. }, _) => spec.center[component] = v,

@@ -199,7 +199,11 @@ pub fn check_text(m: &Model) -> String {
             let q = c.nesting_vector(m);
             vec![
                 c.label().to_string(),
-                format!("{} -> {}", m.pockets()[c.a()].name(), m.pockets()[c.b()].name()),
+                format!(
+                    "{} -> {}",
+                    m.pockets()[c.a()].name(),
+                    m.pockets()[c.b()].name()
+                ),
                 g4(c.nu()),
                 g4(c.g()),
                 g4(c.lambda()),

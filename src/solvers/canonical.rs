@@ -204,7 +204,9 @@ pub fn canonical_state(
         .x;
         let (nn, u) = uniform_at(os, model, channel, sc, t)?;
         let (nu, d, _) = u.ok_or_else(|| {
-            NumericalError::NoMinimum("the uniform minimum vanished at the first-order point".into())
+            NumericalError::NoMinimum(
+                "the uniform minimum vanished at the first-order point".into(),
+            )
         })?;
         let (lo, hi) = (nn.min(nu), nn.max(nu));
         if target > lo && target < hi {

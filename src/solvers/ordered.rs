@@ -140,9 +140,15 @@ impl OrderedSolver {
         if delta == 0.0 {
             if t <= 0.0 {
                 // chi diverges logarithmically at T = 0 for h = 0; use a tiny gap instead.
-                return Ok(
-                    gap_function(&shell, ch.g(), ch.mismatch(), 1e-9 * ch.cutoff(), t, &acc)?.value,
-                );
+                return Ok(gap_function(
+                    &shell,
+                    ch.g(),
+                    ch.mismatch(),
+                    1e-9 * ch.cutoff(),
+                    t,
+                    &acc,
+                )?
+                .value);
             }
             return Ok(1.0 / ch.g() - susceptibility(&shell, t, &acc)?.value);
         }

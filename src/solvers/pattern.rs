@@ -80,7 +80,11 @@ pub fn model_with(base: &Model, param: Param, value: f64) -> Result<Model, Input
 
 /// Resolves `path` (NAME.key, NAME.key.x) against the model built from `src`: the typed
 /// parameter and its value there (the start of the line search).
-pub fn path_value(src: &ConfigSource, base: &Model, path: &str) -> Result<(Param, f64), InputError> {
+pub fn path_value(
+    src: &ConfigSource,
+    base: &Model,
+    path: &str,
+) -> Result<(Param, f64), InputError> {
     let param = Override::parse(&format!("{path}=0"))?.resolve(&src.origin, base)?;
     Ok((param, base.value(param)))
 }

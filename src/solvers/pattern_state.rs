@@ -302,10 +302,9 @@ pub fn solve_structure(
     start_amplitude: f64,
     opts: &PatternOptions,
 ) -> Result<PatternState, NumericalError> {
-    let c = model
-        .channels()
-        .get(ch)
-        .ok_or_else(|| NumericalError::BadArgument(format!("channel index {ch} is out of range")))?;
+    let c = model.channels().get(ch).ok_or_else(|| {
+        NumericalError::BadArgument(format!("channel index {ch} is out of range"))
+    })?;
     if phases.len() != wavevectors.len() {
         return Err(NumericalError::BadArgument(format!(
             "{} phases given for {} wavevectors",
@@ -346,7 +345,8 @@ pub fn solve_structure(
         let change = (fine.omega - solved.eval.omega).abs();
         // Relative to Omega, with a floor at the scale of the starting state (a solution that
         // fell far below it is judged against that scale, not against its own tiny Omega).
-        let start_scale = 1e-2 * wavevectors.len() as f64 * start_amplitude * start_amplitude / c.g();
+        let start_scale =
+            1e-2 * wavevectors.len() as f64 * start_amplitude * start_amplitude / c.g();
         let target = grid.rtol * omega_scale(fine.omega, &solved.x, c.g()).max(start_scale);
         if change <= target {
             break (fine, change);

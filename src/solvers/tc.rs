@@ -801,7 +801,8 @@ impl TcSolver {
         let q = fin.q;
         // Global check at the root: no other wavevector may be more unstable.
         let grid = self.grid_scan(model, ch, root_t, &coarse, iso, &count)?;
-        let vl = ch.g() * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value;
+        let vl =
+            ch.g() * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value;
         count.set(count.get() + 1);
         let qn = q[0].hypot(q[1]);
         let near = |p: [f64; 2]| {

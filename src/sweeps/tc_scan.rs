@@ -35,15 +35,12 @@ pub fn scan_tc(
     let sweep = Sweep::new(base, base_model, grid)?;
     Ok(par_map(grid.len(), threads, progress, |i| {
         let values = grid.values(i);
-        let result = sweep
-            .model_at(i)
-            .map_err(|e| e.to_string())
-            .and_then(|m| {
-                m.channels()
-                    .iter()
-                    .map(|ch| channel_tc(&m, ch, solver, method).map_err(|e| e.to_string()))
-                    .collect::<Result<Vec<_>, String>>()
-            });
+        let result = sweep.model_at(i).map_err(|e| e.to_string()).and_then(|m| {
+            m.channels()
+                .iter()
+                .map(|ch| channel_tc(&m, ch, solver, method).map_err(|e| e.to_string()))
+                .collect::<Result<Vec<_>, String>>()
+        });
         ScanPoint { values, result }
     }))
 }
