@@ -245,6 +245,15 @@ pub fn apply(origin: &str, table: &mut Table, o: &Override) -> Result<(), InputE
         .and_then(|a| a.get_mut(index))
         .and_then(Value::as_table_mut)
         .ok_or_else(|| err(format!("[[{section}]] entry is not a table")))?;
+    set_key(item, o, &err)
+}
+
+/// Sets the override's key in one `[[pocket]]` or `[[channel]]` table.
+fn set_key(
+    item: &mut Table,
+    o: &Override,
+    err: &dyn Fn(String) -> InputError,
+) -> Result<(), InputError> {
     let v = Value::Float(o.value);
     match o.key.as_str() {
         "phase" => {

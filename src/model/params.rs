@@ -4,7 +4,7 @@
 //! whose coupling is itself set.
 
 use super::build::BuildOptions;
-use super::spec::{entry_error, key_error, kind_name, DispersionSpec, SpinSpec};
+use super::spec::{dirac_only, entry_error, key_error, kind_name, DispersionSpec, SpinSpec};
 use super::{CouplingInput, Lattice, Model};
 use crate::error::InputError;
 
@@ -335,9 +335,6 @@ fn set_pocket(pockets: &mut [super::PocketSpec], p: Param, v: f64) -> Result<(),
             "give either `mass` + `offset`, or `kf` + `vf`, not both",
         )
     };
-    let dirac_only = |key: &str| {
-        key_error(&entry, key, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)")
-    };
     match (p, &mut spec.dispersion) {
         (Param::Angle { .. }, _) => spec.angle_deg = v,
         (Param::Center { component, .. }, _) => spec.center[component] = v,
@@ -353,9 +350,9 @@ fn set_pocket(pockets: &mut [super::PocketSpec], p: Param, v: f64) -> Result<(),
         (Param::Velocity { component, .. }, DispersionSpec::Cone { velocity, .. }) => set_pair(velocity, component),
         (Param::Kf { .. }, DispersionSpec::FermiPoint { kf, .. }) => *kf = v,
         (Param::Vf { .. }, DispersionSpec::FermiPoint { vf, .. }) => *vf = v,
-        (Param::Mass { .. }, DispersionSpec::Cone { .. }) => return Err(dirac_only("mass")),
-        (Param::Kf { .. }, DispersionSpec::Cone { .. }) => return Err(dirac_only("kf")),
-        (Param::Vf { .. }, DispersionSpec::Cone { .. }) => return Err(dirac_only("vf")),
+        (Param::Mass { .. }, DispersionSpec::Cone { .. }) => return Err(dirac_only(&entry, "mass")),
+        (Param::Kf { .. }, DispersionSpec::Cone { .. }) => return Err(dirac_only(&entry, "kf")),
+        (Param::Vf { .. }, DispersionSpec::Cone { .. }) => return Err(dirac_only(&entry, "vf")),
         (Param::Velocity { .. }, _) => {
             return Err(key_error(&entry, "velocity", format!("a {} pocket takes `mass` + `offset`, or `kf` + `vf`; `velocity` is for \"dirac\" pockets", kind_name(kind))))
         }

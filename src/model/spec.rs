@@ -132,13 +132,9 @@ impl PocketSpec {
 
     /// The dispersion in internal units (c = hbar^2/(2m) in meV nm^2, offsets in meV).
     fn dispersion(&self, entry: &str, shift: f64) -> Result<Dispersion, InputError> {
-        let offset_given = match self.dispersion {
-            DispersionSpec::Mass { offset, .. } | DispersionSpec::Cone { offset, .. } => {
-                Some(offset)
-            }
-            DispersionSpec::FermiPoint { .. } => None,
-        };
-        if let Some(o) = offset_given {
+        if let DispersionSpec::Mass { offset: o, .. } | DispersionSpec::Cone { offset: o, .. } =
+            self.dispersion
+        {
             if o.abs() > 1e5 {
                 return Err(key_error(
                     entry,
@@ -148,83 +144,100 @@ impl PocketSpec {
             }
         }
         let kind = self.kind;
-        let positive = |key: &str, x: f64, unit: &str, hi: f64| {
-            check_positive(x, unit, hi).map_err(|why| key_error(entry, key, why))
-        };
-        let sign = if kind == PocketKind::Electron {
-            1.0
-        } else {
-            -1.0
-        };
-        let (c, offset) = match (kind, self.dispersion) {
+        match (kind, self.dispersion) {
             (PocketKind::Dirac, DispersionSpec::Cone { velocity, offset }) => {
-                for v in velocity {
-                    positive("velocity", v, "meV nm", 1e5)?;
-                }
-                let offset = offset + shift;
-                if offset == 0.0 {
-                    return Err(key_error(entry, "offset", "0 meV: a Dirac point at the chemical potential has no Fermi surface; the offset must be non-zero (< 0 electron-like, > 0 hole-like)"));
-                }
-                return Ok(Dispersion::Dirac {
-                    branch: if offset < 0.0 { 1.0 } else { -1.0 },
-                    v: velocity,
-                    offset,
-                });
+                cone(entry, velocity, offset + shift)
             }
-            (PocketKind::Dirac, _) => {
-                let key = match self.dispersion {
-                    DispersionSpec::Mass { .. } => "mass",
-                    _ => "kf",
-                };
-                return Err(key_error(entry, key, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)"));
+            (PocketKind::Dirac, DispersionSpec::Mass { .. }) => Err(dirac_only(entry, "mass")),
+            (PocketKind::Dirac, DispersionSpec::FermiPoint { .. }) => Err(dirac_only(entry, "kf")),
+            (_, DispersionSpec::Cone { .. }) => Err(key_error(
+                entry,
+                "velocity",
+                format!("a {} pocket takes `mass` + `offset`, or `kf` + `vf`; `velocity` is for \"dirac\" pockets", kind_name(kind)),
+            )),
+            (_, spec) => parabolic(entry, kind, spec, shift),
+        }
+    }
+}
+
+/// The message for a parabolic key on a Dirac pocket.
+pub(crate) fn dirac_only(entry: &str, key: &str) -> InputError {
+    key_error(entry, key, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)")
+}
+
+/// A range check of one value of `entry`.
+fn positive(entry: &str, key: &str, x: f64, unit: &str, hi: f64) -> Result<f64, InputError> {
+    check_positive(x, unit, hi).map_err(|why| key_error(entry, key, why))
+}
+
+/// A Dirac cone with hbar v (meV nm) and the Dirac point at `offset` (meV, shift included).
+fn cone(entry: &str, velocity: [f64; 2], offset: f64) -> Result<Dispersion, InputError> {
+    for v in velocity {
+        positive(entry, "velocity", v, "meV nm", 1e5)?;
+    }
+    if offset == 0.0 {
+        return Err(key_error(entry, "offset", "0 meV: a Dirac point at the chemical potential has no Fermi surface; the offset must be non-zero (< 0 electron-like, > 0 hole-like)"));
+    }
+    Ok(Dispersion::Dirac {
+        branch: if offset < 0.0 { 1.0 } else { -1.0 },
+        v: velocity,
+        offset,
+    })
+}
+
+/// A parabolic band from masses or from kF + vF; its band edge must lie on the carrier side.
+fn parabolic(
+    entry: &str,
+    kind: PocketKind,
+    spec: DispersionSpec,
+    shift: f64,
+) -> Result<Dispersion, InputError> {
+    let sign = if kind == PocketKind::Electron {
+        1.0
+    } else {
+        -1.0
+    };
+    let (c, offset) = match spec {
+        DispersionSpec::Mass { mass, offset } => {
+            for m in mass {
+                positive(entry, "mass", m, "electron masses", 1e3)?;
             }
-            (_, DispersionSpec::Cone { .. }) => {
+            if mass.iter().any(|&x| x < 1e-3) {
                 return Err(key_error(
                     entry,
-                    "velocity",
-                    format!("a {} pocket takes `mass` + `offset`, or `kf` + `vf`; `velocity` is for \"dirac\" pockets", kind_name(kind)),
+                    "mass",
+                    "out of range: expected masses in [0.001, 1000] electron masses",
                 ));
             }
-            (_, DispersionSpec::Mass { mass, offset }) => {
-                for m in mass {
-                    positive("mass", m, "electron masses", 1e3)?;
-                }
-                if mass.iter().any(|&x| x < 1e-3) {
-                    return Err(key_error(
-                        entry,
-                        "mass",
-                        "out of range: expected masses in [0.001, 1000] electron masses",
-                    ));
-                }
-                (
-                    [HBAR2_OVER_2ME / mass[0], HBAR2_OVER_2ME / mass[1]],
-                    offset + shift,
-                )
-            }
-            (_, DispersionSpec::FermiPoint { kf, vf }) => {
-                positive("kf", kf, "1/nm", 1e2)?;
-                positive("vf", vf, "meV nm", 1e5)?;
-                // m = hbar kF / vF: hbar^2/(2m) = (hbar vF)/(2 kF); E0 = -+ hbar kF vF / 2.
-                let c = vf / (2.0 * kf);
-                let edge = kf * vf / 2.0;
-                if edge <= 0.0 || !c.is_finite() {
-                    return Err(key_error(
-                        entry,
-                        "vf",
-                        format!("kf = {kf} 1/nm with vf = {vf} meV nm gives a band edge kf vf / 2 = {edge} meV, which is not usable; allowed: kf vf / 2 > 0 and vf / kf finite"),
-                    ));
-                }
-                ([c, c], -sign * edge + shift)
-            }
-        };
-        if sign * offset >= 0.0 {
-            let why = if kind == PocketKind::Electron {
-                format!("{offset} meV: an electron pocket's band edge must lie below the chemical potential (offset < 0), otherwise it has no Fermi surface")
-            } else {
-                format!("{offset} meV: a hole pocket's band edge must lie above the chemical potential (offset > 0), otherwise it has no Fermi surface")
-            };
-            return Err(key_error(entry, "offset", why));
+            (
+                [HBAR2_OVER_2ME / mass[0], HBAR2_OVER_2ME / mass[1]],
+                offset + shift,
+            )
         }
-        Ok(Dispersion::Parabolic { sign, c, offset })
+        DispersionSpec::FermiPoint { kf, vf } => {
+            positive(entry, "kf", kf, "1/nm", 1e2)?;
+            positive(entry, "vf", vf, "meV nm", 1e5)?;
+            // m = hbar kF / vF: hbar^2/(2m) = (hbar vF)/(2 kF); E0 = -+ hbar kF vF / 2.
+            let c = vf / (2.0 * kf);
+            let edge = kf * vf / 2.0;
+            if edge <= 0.0 || !c.is_finite() {
+                return Err(key_error(
+                    entry,
+                    "vf",
+                    format!("kf = {kf} 1/nm with vf = {vf} meV nm gives a band edge kf vf / 2 = {edge} meV, which is not usable; allowed: kf vf / 2 > 0 and vf / kf finite"),
+                ));
+            }
+            ([c, c], -sign * edge + shift)
+        }
+        DispersionSpec::Cone { .. } => unreachable!("a cone is not parabolic"),
+    };
+    if sign * offset >= 0.0 {
+        let why = if kind == PocketKind::Electron {
+            format!("{offset} meV: an electron pocket's band edge must lie below the chemical potential (offset < 0), otherwise it has no Fermi surface")
+        } else {
+            format!("{offset} meV: a hole pocket's band edge must lie above the chemical potential (offset > 0), otherwise it has no Fermi surface")
+        };
+        return Err(key_error(entry, "offset", why));
     }
+    Ok(Dispersion::Parabolic { sign, c, offset })
 }
