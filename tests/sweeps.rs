@@ -53,7 +53,7 @@ fn a_failed_point_is_recorded_and_the_sweep_goes_on() {
     )
     .unwrap();
     assert!(pts[0].result.is_ok());
-    let err = pts[1].result.as_ref().unwrap_err();
+    let err = pts[1].result.as_ref().unwrap_err().to_string();
     assert!(err.contains("offset"), "{err}");
 }
 

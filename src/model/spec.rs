@@ -56,12 +56,23 @@ pub(crate) fn entry_error(entry: &str, why: impl std::fmt::Display) -> InputErro
     InputError::new(format!("{entry}: {why}"))
 }
 
-/// Checks that x lies in (0, hi] (in `unit`); the reason otherwise.
-pub(crate) fn check_positive(x: f64, unit: &str, hi: f64) -> Result<f64, String> {
+/// A value outside (0, hi] in its unit.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{x} is out of range: expected a number in (0, {hi}] {unit}")]
+pub(crate) struct OutOfRange {
+    x: f64,
+    hi: f64,
+    unit: String,
+}
+
+/// Checks that x lies in (0, hi] (in `unit`).
+pub(crate) fn check_positive(x: f64, unit: &str, hi: f64) -> Result<f64, OutOfRange> {
     if !(x > 0.0 && x <= hi) {
-        return Err(format!(
-            "{x} is out of range: expected a number in (0, {hi}] {unit}"
-        ));
+        return Err(OutOfRange {
+            x,
+            hi,
+            unit: unit.to_string(),
+        });
     }
     Ok(x)
 }

@@ -105,7 +105,7 @@ pub fn write_scan(
                     "status": "ok",
                     "channels": chs.iter().zip(m.channels()).map(|(r, c)| super::tables::channel_tc_json(m, c, r)).collect::<Vec<_>>(),
                 }),
-                Err(e) => json!({"values": p.values, "status": "failed", "reason": e}),
+                Err(e) => json!({"values": p.values, "status": "failed", "reason": e.to_string()}),
             })
             .collect(),
     );

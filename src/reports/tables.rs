@@ -439,7 +439,7 @@ pub fn scan_rows(points: &[ScanPoint], channel_labels: &[String]) -> Vec<Vec<Str
                         String::new(),
                         String::new(),
                         String::new(),
-                        e.clone(),
+                        e.to_string(),
                     ]);
                     rows.push(row);
                 }

@@ -3,7 +3,7 @@
 
 use super::{par_map, Grid, Sweep};
 use crate::config::ConfigSource;
-use crate::error::InputError;
+use crate::error::{InputError, NestorError};
 use crate::model::Model;
 use crate::solvers::tc_channel::{channel_tc, ChannelTc, Method};
 use crate::solvers::TcSolver;
@@ -12,7 +12,7 @@ use crate::solvers::TcSolver;
 #[derive(Debug, Clone)]
 pub struct ScanPoint {
     pub values: Vec<f64>,
-    pub result: Result<Vec<ChannelTc>, String>,
+    pub result: Result<Vec<ChannelTc>, NestorError>,
 }
 
 /// Runs the scan. The base configuration fixes g (lambda is converted there).
@@ -35,11 +35,11 @@ pub fn scan_tc(
     let sweep = Sweep::new(base, base_model, grid)?;
     Ok(par_map(grid.len(), threads, progress, |i| {
         let values = grid.values(i);
-        let result = sweep.model_at(i).map_err(|e| e.to_string()).and_then(|m| {
+        let result = sweep.model_at(i).map_err(NestorError::from).and_then(|m| {
             m.channels()
                 .iter()
-                .map(|ch| channel_tc(&m, ch, solver, method).map_err(|e| e.to_string()))
-                .collect::<Result<Vec<_>, String>>()
+                .map(|ch| channel_tc(&m, ch, solver, method))
+                .collect::<Result<Vec<_>, NestorError>>()
         });
         ScanPoint { values, result }
     }))
