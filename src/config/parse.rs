@@ -125,14 +125,25 @@ fn required<'t>(ctx: &Ctx, t: &'t Table, key: &str, what: &str) -> Result<&'t Va
         .ok_or_else(|| ctx.err(key, format!("missing; expected {what}")))
 }
 
-fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<PocketSpec, InputError> {
-    let mut ctx = Ctx {
+/// The i-th `[[section]]` entry as a table, with its message context.
+fn entry_table<'a>(
+    origin: &'a str,
+    section: &str,
+    i: usize,
+    v: &'a Value,
+) -> Result<(Ctx<'a>, &'a Table), InputError> {
+    let ctx = Ctx {
         origin,
-        entry: format!("[[pocket]] #{}", i + 1),
+        entry: format!("[[{section}]] #{}", i + 1),
     };
     let t = v
         .as_table()
-        .ok_or_else(|| ctx.whole("each [[pocket]] must be a table"))?;
+        .ok_or_else(|| ctx.whole(format!("each [[{section}]] must be a table")))?;
+    Ok((ctx, t))
+}
+
+fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<PocketSpec, InputError> {
+    let (mut ctx, t) = entry_table(origin, "pocket", i, v)?;
     let name = string(
         &ctx,
         "name",
@@ -411,13 +422,7 @@ fn parse_channel(
     v: &Value,
     pockets: &[PocketSpec],
 ) -> Result<ChannelSpec, InputError> {
-    let mut ctx = Ctx {
-        origin,
-        entry: format!("[[channel]] #{}", i + 1),
-    };
-    let t = v
-        .as_table()
-        .ok_or_else(|| ctx.whole("each [[channel]] must be a table"))?;
+    let (mut ctx, t) = entry_table(origin, "channel", i, v)?;
     let name = t
         .get("name")
         .map(|v| string(&ctx, "name", v, "a label").map(str::to_string))
