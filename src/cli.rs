@@ -648,7 +648,8 @@ fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Out
     // The path must name a field of the configuration.
     let probe = Override::parse(&format!("{path}=0"))
         .map_err(|e| Failure::Input(e.0.replace("--set", "--along")))?;
-    src.value_of(&probe)
+    probe
+        .resolve(&src.origin, model)
         .map_err(|e| Failure::Input(format!("--along {path}: {}", e.0)))?;
     let extra = user_structures(&a.wavevectors)?;
     std::fs::create_dir_all(&a.out).map_err(|e| {

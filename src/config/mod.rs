@@ -62,11 +62,6 @@ impl ConfigSource {
         parse::build_model(&self.origin, &self.table, pinned)
     }
 
-    /// The value in this configuration of the field that `o` would set.
-    pub fn value_of(&self, o: &Override) -> Result<f64, InputError> {
-        overrides::value_in(&self.origin, &self.table, o)
-    }
-
     /// The configuration text as TOML (after overrides), for provenance headers.
     pub fn to_toml(&self) -> String {
         toml::to_string(&self.table).unwrap_or_default()

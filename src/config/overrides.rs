@@ -305,47 +305,6 @@ fn set_key(
     Ok(())
 }
 
-/// The current value of the field an override would set (for a search that starts from it).
-pub fn value_in(origin: &str, table: &Table, o: &Override) -> Result<f64, InputError> {
-    let path = o.path();
-    let err = |why: String| InputError::new(format!("{origin}: {path}: {why}"));
-    let item = if o.target == "surface" {
-        table.get("surface").and_then(Value::as_table)
-    } else {
-        ["pocket", "channel"]
-            .iter()
-            .filter_map(|sec| table.get(*sec).and_then(Value::as_array))
-            .flatten()
-            .filter_map(Value::as_table)
-            .find(|it| it.get("name").and_then(Value::as_str) == Some(o.target.as_str()))
-    }
-    .ok_or_else(|| {
-        err(format!(
-            "no pocket, channel or surface named `{}`",
-            o.target
-        ))
-    })?;
-    let number = |v: &Value| match v {
-        Value::Float(x) => Some(*x),
-        Value::Integer(i) => Some(*i as f64),
-        _ => None,
-    };
-    let field = if o.key == "phase" {
-        item.get("spin")
-            .and_then(Value::as_table)
-            .and_then(|t| t.get("phase"))
-    } else {
-        item.get(&o.key)
-    }
-    .ok_or_else(|| err(format!("`{}` is not given in the configuration", o.key)))?;
-    let value = match (field, o.component) {
-        (Value::Array(a), Some(c)) => a.get(c).and_then(number),
-        (Value::Array(_), None) => None,
-        (v, _) => number(v),
-    };
-    value.ok_or_else(|| err("not a number (a two-component key takes .x or .y)".into()))
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
