@@ -10,6 +10,7 @@ use thiserror::Error;
 pub struct InputError(pub String);
 
 impl InputError {
+    /// An input error with this message.
     pub fn new(msg: impl Into<String>) -> Self {
         InputError(msg.into())
     }
@@ -18,6 +19,7 @@ impl InputError {
 /// Why a numerical procedure stopped without a trustworthy number.
 #[derive(Debug, Clone, Error, PartialEq)]
 pub enum NumericalError {
+    /// An iteration stopped before reaching its target.
     #[error("{what}: not converged after {iterations} steps (last change {last_change:.3e}, target {target:.3e})")]
     NotConverged {
         what: String,
@@ -25,6 +27,7 @@ pub enum NumericalError {
         last_change: f64,
         target: f64,
     },
+    /// A root search found no sign change in its interval.
     #[error("{what}: no sign change found in [{lo:.6e}, {hi:.6e}]")]
     NotBracketed { what: String, lo: f64, hi: f64 },
     /// The shell |xi| < cutoff is empty at this q.

@@ -69,6 +69,7 @@ impl Override {
         resolve(origin, &self.path(), model, parts)
     }
 
+    /// The PATH text, `NAME.key` or `NAME.key[c]`.
     pub fn path(&self) -> String {
         match self.component {
             Some(c) => format!("{}.{}[{c}]", self.target, self.key),
@@ -89,6 +90,7 @@ pub struct Range {
 }
 
 impl Range {
+    /// The n values from `from` to `to` inclusive.
     pub fn values(&self) -> Vec<f64> {
         if self.n == 1 {
             return vec![self.from];
@@ -98,6 +100,7 @@ impl Range {
             .collect()
     }
 
+    /// The override setting this range's path to `value`.
     pub fn at(&self, value: f64) -> Override {
         Override {
             target: self.target.clone(),
@@ -107,6 +110,7 @@ impl Range {
         }
     }
 
+    /// The PATH text of the range.
     pub fn path(&self) -> String {
         self.at(0.0).path()
     }

@@ -5,7 +5,7 @@
 pub mod phase_map;
 pub mod tc_scan;
 
-use crate::config::{ConfigSource, Override, Range};
+use crate::config::{ConfigSource, Range};
 use crate::error::InputError;
 use crate::model::{Model, Param};
 use indicatif::{ProgressBar, ProgressStyle};
@@ -19,6 +19,7 @@ pub struct Grid {
 }
 
 impl Grid {
+    /// A grid of one or two distinct axes, at most 10^6 points.
     pub fn new(axes: Vec<Range>) -> Result<Self, InputError> {
         if axes.is_empty() || axes.len() > 2 {
             return Err(InputError::new(
@@ -40,10 +41,12 @@ impl Grid {
         Ok(Grid { axes })
     }
 
+    /// Number of points.
     pub fn len(&self) -> usize {
         self.axes.iter().map(|a| a.n).product()
     }
 
+    /// Whether the grid has no point.
     pub fn is_empty(&self) -> bool {
         self.len() == 0
     }
@@ -58,15 +61,6 @@ impl Grid {
             rest /= a.n;
         }
         out
-    }
-
-    /// The overrides of point i.
-    pub fn overrides(&self, i: usize) -> Vec<Override> {
-        self.values(i)
-            .iter()
-            .zip(&self.axes)
-            .map(|(v, a)| a.at(*v))
-            .collect()
     }
 }
 
