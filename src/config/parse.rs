@@ -125,6 +125,17 @@ fn required<'t>(ctx: &Ctx, t: &'t Table, key: &str, what: &str) -> Result<&'t Va
         .ok_or_else(|| ctx.err(key, format!("missing; expected {what}")))
 }
 
+/// A required number in (0, hi]; `key` is (name, what is expected when it is missing).
+fn required_positive(
+    ctx: &Ctx,
+    t: &Table,
+    (key, what): (&str, &str),
+    unit: &str,
+    hi: f64,
+) -> Result<f64, InputError> {
+    positive(ctx, key, required(ctx, t, key, what)?, unit, hi)
+}
+
 /// The i-th `[[section]]` entry as a table, with its message context.
 fn entry_table<'a>(
     origin: &'a str,
@@ -249,8 +260,8 @@ fn parse_parabolic(ctx: &Ctx, t: &Table, kind_s: &str) -> Result<DispersionSpec,
                     "not allowed with `kf` + `vf` (the band edge follows from them: -+ hbar kF vF / 2)",
                 ));
             }
-            let kf = positive(ctx, "kf", required(ctx, t, "kf", "kF in 1/nm")?, "1/nm", 1e2)?;
-            let vf = positive(ctx, "vf", required(ctx, t, "vf", "hbar vF in meV nm")?, "meV nm", 1e5)?;
+            let kf = required_positive(ctx, t, ("kf", "kF in 1/nm"), "1/nm", 1e2)?;
+            let vf = required_positive(ctx, t, ("vf", "hbar vF in meV nm"), "meV nm", 1e5)?;
             Ok(DispersionSpec::FermiPoint { kf, vf })
         }
     }
@@ -340,13 +351,7 @@ fn parse_surface(origin: &str, v: &Value) -> Result<Lattice, InputError> {
         )?,
         "\"square\", \"hexagonal\" or \"rectangular\"",
     )?;
-    let a = positive(
-        &ctx,
-        "a",
-        required(&ctx, t, "a", "the lattice constant in nm")?,
-        "nm",
-        1e3,
-    )?;
+    let a = required_positive(&ctx, t, ("a", "the lattice constant in nm"), "nm", 1e3)?;
     let b = t
         .get("b")
         .map(|v| positive(&ctx, "b", v, "nm", 1e3))
@@ -441,10 +446,10 @@ fn parse_channel(
     if name.is_none() {
         ctx.entry = format!("channel {label}");
     }
-    let cutoff = positive(
+    let cutoff = required_positive(
         &ctx,
-        "cutoff",
-        required(&ctx, t, "cutoff", "the shell half-width Lambda in meV")?,
+        t,
+        ("cutoff", "the shell half-width Lambda in meV"),
         "meV",
         1e4,
     )?;

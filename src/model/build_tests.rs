@@ -5,52 +5,43 @@
 use super::*;
 use crate::config::{ConfigSource, Override, PinnedCouplings};
 
+/// An anisotropic, rotated electron pocket and a displaced hole pocket (inline TOML tables).
 const NESTED: &str = r#"
-[[pocket]]
-name = "e"
-kind = "electron"
-center = [0.0, 0.0]
-mass = [0.2, 0.3]
-offset = -100.0
-angle = 10.0
-
-[[pocket]]
-name = "h"
-kind = "hole"
-center = [0.1, 0.0]
-mass = 0.25
-offset = 101.0
-
-[[channel]]
-name = "eh"
-pockets = ["e", "h"]
-lambda = 0.25
-cutoff = 5.0
+pocket = [
+  { name = "e", kind = "electron", center = [0.0, 0.0], mass = [0.2, 0.3], offset = -100.0, angle = 10.0 },
+  { name = "h", kind = "hole", center = [0.1, 0.0], mass = 0.25, offset = 101.0 },
+]
+channel = [{ name = "eh", pockets = ["e", "h"], lambda = 0.25, cutoff = 5.0 }]
 "#;
 
+/// A degenerate parabolic pocket given by masses (electron masses) and offset (meV).
+fn parabolic(
+    name: &str,
+    kind: PocketKind,
+    at: [f64; 3],
+    mass: [f64; 2],
+    offset: f64,
+) -> PocketSpec {
+    PocketSpec {
+        name: name.into(),
+        kind,
+        center: [at[0], at[1]],
+        angle_deg: at[2],
+        dispersion: DispersionSpec::Mass { mass, offset },
+        spin: SpinSpec::Degenerate,
+    }
+}
+
+/// The model of `NESTED`, built in code.
 fn in_code() -> Model {
-    let e = PocketSpec {
-        name: "e".into(),
-        kind: PocketKind::Electron,
-        center: [0.0, 0.0],
-        angle_deg: 10.0,
-        dispersion: DispersionSpec::Mass {
-            mass: [0.2, 0.3],
-            offset: -100.0,
-        },
-        spin: SpinSpec::Degenerate,
-    };
-    let h = PocketSpec {
-        name: "h".into(),
-        kind: PocketKind::Hole,
-        center: [0.1, 0.0],
-        angle_deg: 0.0,
-        dispersion: DispersionSpec::Mass {
-            mass: [0.25, 0.25],
-            offset: 101.0,
-        },
-        spin: SpinSpec::Degenerate,
-    };
+    let e = parabolic(
+        "e",
+        PocketKind::Electron,
+        [0.0, 0.0, 10.0],
+        [0.2, 0.3],
+        -100.0,
+    );
+    let h = parabolic("h", PocketKind::Hole, [0.1, 0.0, 0.0], [0.25, 0.25], 101.0);
     let eh = ChannelSpec {
         name: Some("eh".into()),
         pockets: [0, 1],
