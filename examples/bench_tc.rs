@@ -43,7 +43,7 @@ fn main() {
     let quick = std::env::args().any(|a| a == "--quick");
     let src = ConfigSource::from_text("benchmark pair", CONFIG).unwrap();
     let m = src.build(None).unwrap();
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let solver = TcSolver::default();
     let reps = 20;
     let t0 = Instant::now();
@@ -93,7 +93,7 @@ fn main() {
             .with_overrides(&[Override::parse(set).unwrap()])
             .unwrap();
         let m = src.build(None).unwrap();
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let t0 = Instant::now();
         let u = solver.uniform(&m, ch).unwrap();
         let md = solver.modulated(&m, ch, &u).unwrap();

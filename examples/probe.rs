@@ -5,7 +5,7 @@ fn main() {
     let path = std::env::args().nth(1).unwrap();
     let src = ConfigSource::load(std::path::Path::new(&path)).unwrap();
     let m = src.build(None).unwrap();
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let acc = Accuracy::default();
     let fine = Accuracy {
         rtol: 1e-11,

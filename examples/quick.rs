@@ -11,18 +11,18 @@ fn main() {
         .collect();
     let src = src.with_overrides(&sets).unwrap();
     let m = src.build(None).unwrap();
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     println!(
         "nu {} g {} lambda {} h {}",
-        ch.nu,
-        ch.g,
+        ch.nu(),
+        ch.g(),
         ch.lambda(),
-        ch.mismatch
+        ch.mismatch()
     );
     let s = TcSolver::default();
     let t0 = std::time::Instant::now();
     let u = s.uniform(&m, ch).unwrap();
-    let tc0 = 1.133_866 * ch.cutoff * (-1.0 / ch.lambda()).exp();
+    let tc0 = 1.133_866 * ch.cutoff() * (-1.0 / ch.lambda()).exp();
     println!(
         "uniform {:?} ratio {:.9} in {:?}",
         u,

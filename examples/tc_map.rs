@@ -37,7 +37,7 @@ fn tc_pair(
         Override::parse(&format!("eh.cutoff={cutoff}"))?,
     ];
     let model = base.with_overrides(&overrides)?.build(None)?;
-    let channel = &model.channels[0];
+    let channel = &model.channels()[0];
     let uniform = solver.uniform(&model, channel)?;
     let modulated = solver.modulated(&model, channel, &uniform)?;
     Ok((uniform.tc, modulated.tc.tc))

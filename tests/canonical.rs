@@ -20,7 +20,7 @@ fn clogston_jump_becomes_coexistence_at_fixed_density() {
     let tc0 = 1.133_865_9 * 5.0 * (-4.0f64).exp();
     let os = OrderedSolver::default();
     let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, 0.5 * d0);
-    let dos = m.pockets[0].dos() / 2.0;
+    let dos = m.pockets()[0].dos() / 2.0;
     assert!((normal_carriers(&m, 0.0) / (-4.0 * dos * 0.5 * d0) - 1.0).abs() < 1e-9);
     let st = canonical_state(&os, &m, 0, 1e-3 * tc0, 2.0 * d0).unwrap();
     assert_eq!(st.state, "coexistence");

@@ -21,8 +21,8 @@ fn dirac_pair(winding_b: i32, coupling: &str) -> String {
 #[test]
 fn same_texture_cones_have_no_charge_instability() {
     let m = model(&dirac_pair(1, "g = 5000.0"));
-    let ch = &m.channels[0];
-    assert!(ch.nu.abs() < 1e-15);
+    let ch = &m.channels()[0];
+    assert!(ch.nu().abs() < 1e-15);
     let solver = TcSolver::default();
     let u = solver.uniform(&m, ch).unwrap();
     assert_eq!(u.status, TcStatus::NoInstability);
@@ -52,20 +52,20 @@ fn opposite_windings_halve_the_pair_density_of_states() {
             "spin = \"degenerate\"",
         );
     let plain = model(&plain_text);
-    let (h, p) = (&helical.channels[0], &plain.channels[0]);
+    let (h, p) = (&helical.channels()[0], &plain.channels()[0]);
     // Hand formula: nu = E_F / (2 pi (hbar v)^2) per spin channel for a cone (common practice).
     let nu1 = 100.0 / (2.0 * PI * 300.0 * 300.0);
-    assert!((p.nu / nu1 - 1.0).abs() < tol::TIGHT_INTEGRATION);
+    assert!((p.nu() / nu1 - 1.0).abs() < tol::TIGHT_INTEGRATION);
     assert!(
-        (h.nu / p.nu - 0.5).abs() < tol::TIGHT_INTEGRATION,
+        (h.nu() / p.nu() - 0.5).abs() < tol::TIGHT_INTEGRATION,
         "ratio {}",
-        h.nu / p.nu
+        h.nu() / p.nu()
     );
-    assert_eq!(p.spin_channels, 2.0);
-    assert_eq!(h.spin_channels, 1.0);
+    assert_eq!(p.spin_channels(), 2.0);
+    assert_eq!(h.spin_channels(), 1.0);
     let solver = TcSolver::default();
     let u = solver.uniform(&helical, h).unwrap();
-    let expected = 1.133_865_9 * 5.0 * (-1.0 / (h.g * h.nu)).exp();
+    let expected = 1.133_865_9 * 5.0 * (-1.0 / (h.g() * h.nu())).exp();
     assert!(
         (u.tc / expected - 1.0).abs() < 2e-6,
         "{} vs {expected}",
@@ -119,14 +119,14 @@ fn rotated(alpha_deg: f64) -> nestor::model::Model {
 fn tc_is_invariant_under_rotating_the_configuration() {
     let solver = TcSolver::default();
     let base = rotated(0.0);
-    let ch0 = &base.channels[0];
+    let ch0 = &base.channels()[0];
     let u0 = solver.uniform(&base, ch0).unwrap();
     let m0 = solver.modulated(&base, ch0, &u0).unwrap();
     for alpha in [40.0, -75.0] {
         let m = rotated(alpha);
-        let ch = &m.channels[0];
-        assert!((ch.nu / ch0.nu - 1.0).abs() < 1e-8);
-        assert!((ch.mismatch - ch0.mismatch).abs() < 1e-8 * ch0.mismatch.abs().max(1.0));
+        let ch = &m.channels()[0];
+        assert!((ch.nu() / ch0.nu() - 1.0).abs() < 1e-8);
+        assert!((ch.mismatch() - ch0.mismatch()).abs() < 1e-8 * ch0.mismatch().abs().max(1.0));
         let u = solver.uniform(&m, ch).unwrap();
         assert!(
             (u.tc / u0.tc - 1.0).abs() < tol::INTEGRATION,
@@ -152,7 +152,7 @@ fn tc_is_invariant_under_rotating_the_configuration() {
 #[test]
 fn susceptibility_is_even_in_q_and_continuous_at_zero() {
     let m = rotated(0.0);
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let acc = Accuracy {
         rtol: 1e-10,
         ..Accuracy::default()
@@ -182,7 +182,7 @@ fn susceptibility_is_even_in_q_and_continuous_at_zero() {
 #[test]
 fn susceptibility_agrees_with_an_independent_integrator() {
     let (_, m) = common::nested_pair(0.25, 5.0, 100.0, 0.07);
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let (t, h, cutoff) = (0.06, 0.07, 5.0);
     let acc = Accuracy {
         rtol: 1e-10,
@@ -210,9 +210,9 @@ fn susceptibility_agrees_with_an_independent_integrator() {
     }
     let nu_hand = 0.2 / (4.0 * std::f64::consts::PI * 38.099_821_2);
     assert!(
-        (ch.nu / nu_hand - 1.0).abs() < tol::TIGHT_INTEGRATION,
+        (ch.nu() / nu_hand - 1.0).abs() < tol::TIGHT_INTEGRATION,
         "nu {} vs m/(2 pi hbar^2) = {nu_hand}",
-        ch.nu
+        ch.nu()
     );
     let reference = nu_hand * total;
     assert!(

@@ -35,9 +35,9 @@ fn one_channel_reduces_to_the_closed_form() {
         (&demo(), 0.4, 0.3),
         (&helical, 0.1, 0.04),
     ] {
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let shell = Shell::for_channel(m, ch, [0.0, 0.0]).unwrap();
-        let closed = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &acc)
+        let closed = grand_potential(&shell, ch.g(), ch.mismatch(), delta, t, &acc)
             .unwrap()
             .value;
         let general = omega_uniform_channels(m, &[0], &[delta], t, &acc)
@@ -118,14 +118,14 @@ fn shared_hole_pocket(lambda_1: f64, lambda_2: f64) -> nestor::model::Model {
 fn coupled_channels_report_coexistence_or_competition() {
     // lambda = g nu with the same nu in both channels: g1 > g2.
     let m = shared_hole_pocket(0.3, 0.25);
-    assert!(m.channels[0].g > m.channels[1].g);
+    assert!(m.channels()[0].g() > m.channels()[1].g());
     let os = nestor::solvers::ordered::OrderedSolver::default();
     // 0.05 meV: below both channels' Tc0 (0.20 and 0.10 meV).
     let t = 0.05;
     let c = nestor::solvers::ordered::coupled_uniform(&os, &m, [0, 1], t).unwrap();
     assert_eq!(c.outcome, "compete", "{c:?}");
     assert!(c.omega_single[0] < c.omega_single[1] && c.omega_single[1] < 0.0);
-    let alone = os.solve(&m, &m.channels[0], t, None).unwrap();
+    let alone = os.solve(&m, &m.channels()[0], t, None).unwrap();
     let delta_1 = alone.chosen().delta;
     assert!(delta_1 > 0.0);
     assert!(

@@ -40,7 +40,7 @@ fn pair_at(h: f64) -> Model {
 /// The weak-coupling optimal wavevector at (t, h) in Tc0 units (the crate docs,
 /// `theory::susceptibility`), in 1/nm along x for the reference pair.
 fn q_star(m: &Model, t: f64, h: f64) -> f64 {
-    let v = m.pockets[0].fermi_velocity_along([1.0, 0.0]);
+    let v = m.pockets()[0].fermi_velocity_along([1.0, 0.0]);
     let (_, q) = weak::modulated_point(t, h).unwrap();
     2.0 * q * tc0() / v
 }
@@ -103,9 +103,9 @@ fn one_wavevector_and_uniform_reduce_to_the_two_by_two_omega() {
         (anisotropic_pair(), [0.0, 0.0], 0.1, 0.05),
     ];
     for (mm, qv, delta, t) in cases {
-        let ch = &mm.channels[0];
+        let ch = &mm.channels()[0];
         let shell = Shell::for_channel(&mm, ch, qv).unwrap();
-        let reference = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &tight()).unwrap();
+        let reference = grand_potential(&shell, ch.g(), ch.mismatch(), delta, t, &tight()).unwrap();
         let ours = omega_components(
             &mm,
             0,
@@ -141,7 +141,7 @@ fn self_consistent_plane_wave_matches_the_ordered_solver() {
     let t = 0.3 * tc0();
     let q = [q_star(&m, 0.3, 1.15), 0.0];
     let os = OrderedSolver::default();
-    let (_, sols) = os.stationary_points(&m, &m.channels[0], q, t).unwrap();
+    let (_, sols) = os.stationary_points(&m, &m.channels()[0], q, t).unwrap();
     let best = sols
         .iter()
         .filter(|s| s.minimum)
@@ -170,7 +170,7 @@ fn self_consistent_plane_wave_matches_the_ordered_solver() {
         best.omega
     );
     assert_eq!(st.harmonic_change, 0.0);
-    let g = m.channels[0].g;
+    let g = m.channels()[0].g();
     let c = st.coherence[0].1;
     assert!((c + st.components[0].1 / g).norm() < tol::INTEGRATION * d / g);
     eprintln!(
@@ -397,7 +397,7 @@ fn stripe_is_stationary_and_converges() {
     let t = 0.3 * tc0();
     let q = q_star(&m, 0.3, 1.15);
     let qs = [[q, 0.0], [-q, 0.0]];
-    let g = m.channels[0].g;
+    let g = m.channels()[0].g();
     let solve = |order: usize, check: HarmonicCheck| {
         let t0 = std::time::Instant::now();
         let opts = PatternOptions {

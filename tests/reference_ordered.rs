@@ -29,7 +29,7 @@ fn zero_temperature_gap_is_cutoff_over_sinh() {
     let s = OrderedSolver::default();
     for lambda in [0.2, 0.25] {
         let (_, m) = nested_pair(lambda, CUTOFF, 100.0, 0.0);
-        let st = s.solve(&m, &m.channels[0], 0.0, None).unwrap();
+        let st = s.solve(&m, &m.channels()[0], 0.0, None).unwrap();
         let c = st.chosen();
         assert_eq!(c.state, StateKind::Uniform);
         let exact = CUTOFF / (1.0 / lambda).sinh();
@@ -42,7 +42,7 @@ fn zero_temperature_gap_is_cutoff_over_sinh() {
         // over |xi| < cutoff and using the gap equation gives
         // Omega = -nu cutoff^2 (sqrt(1 + (Delta0/cutoff)^2) - 1) = -nu Delta0^2/2 (1 - ...)
         // (derived in closed form; common practice).
-        let nu = m.channels[0].nu;
+        let nu = m.channels()[0].nu();
         let om = -nu * CUTOFF * CUTOFF * ((1.0 + (exact / CUTOFF).powi(2)).sqrt() - 1.0);
         assert!((c.omega / om - 1.0).abs() < 1e-5, "{} vs {om}", c.omega);
     }
@@ -56,7 +56,7 @@ fn zero_temperature_gap_is_cutoff_over_sinh() {
 #[test]
 fn gap_near_tc_follows_the_bcs_square_root() {
     let (_, m) = nested_pair(LAMBDA, CUTOFF, 100.0, 0.0);
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let tc = TcSolver::default().uniform(&m, ch).unwrap().tc;
     let s = OrderedSolver::default();
     let t = tc * (1.0 - 1e-3);
@@ -79,7 +79,7 @@ fn clogston_jump_at_zero_temperature() {
     let s = OrderedSolver::default();
     let lowest = |h: f64| -> Result<f64, nestor::error::NumericalError> {
         let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, h);
-        let st = s.solve(&m, &m.channels[0], 0.0, None)?;
+        let st = s.solve(&m, &m.channels()[0], 0.0, None)?;
         Ok(st
             .solutions
             .iter()
@@ -97,7 +97,7 @@ fn clogston_jump_at_zero_temperature() {
     );
     // Just above it the normal state is chosen; the BCS minimum survives as metastable.
     let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, 0.75 * d0);
-    let st = s.solve(&m, &m.channels[0], 0.0, None).unwrap();
+    let st = s.solve(&m, &m.channels()[0], 0.0, None).unwrap();
     assert_eq!(st.chosen().state, StateKind::Normal);
     assert!(st
         .solutions
@@ -115,7 +115,7 @@ fn sarma_branch_is_found_and_unstable() {
     let s = OrderedSolver::default();
     for x in [0.6, 0.75, 0.9] {
         let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, x * d0);
-        let st = s.solve(&m, &m.channels[0], 0.0, None).unwrap();
+        let st = s.solve(&m, &m.channels()[0], 0.0, None).unwrap();
         let expected = (d0 * (2.0 * x * d0 - d0)).sqrt();
         let sarma = st
             .solutions
@@ -149,7 +149,7 @@ fn tricritical_point_and_quartic_closed_form() {
     let acc = Accuracy::default();
     let beta_on_line = |h: f64| {
         let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, h * t0);
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let tu = solver.uniform(&m, ch)?.tc;
         let shell = Shell::for_channel(&m, ch, [0.0, 0.0])?;
         Ok(quartic_loop(&shell, tu, &acc)?.value)
@@ -158,12 +158,12 @@ fn tricritical_point_and_quartic_closed_form() {
         .unwrap()
         .x;
     let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, h * t0);
-    let tu = solver.uniform(&m, &m.channels[0]).unwrap().tc / t0;
+    let tu = solver.uniform(&m, &m.channels()[0]).unwrap().tc / t0;
     assert!((tu - 0.5615).abs() < 2e-3, "tricritical T = {tu} Tc0");
     assert!((h - 1.0728).abs() < 2e-3, "tricritical h = {h} Tc0");
     // Closed form at one point away from the zero.
     let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, 0.5 * t0);
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let t = 0.8 * t0;
     let loop_beta = quartic_loop(&Shell::for_channel(&m, ch, [0.0, 0.0]).unwrap(), t, &acc)
         .unwrap()
@@ -171,7 +171,8 @@ fn tricritical_point_and_quartic_closed_form() {
     // The closed form integrates xi to infinity; the shell stops at the cutoff, where the loop
     // integrand is 1/(4 xi^3) per unit nu, so the shell value is lower by nu/(4 cutoff^2)
     // (exact up to exp(-cutoff/T) terms).
-    let closed = ch.nu * weak::quartic_weak(0.8, 0.5) / (t0 * t0) - ch.nu / (4.0 * CUTOFF * CUTOFF);
+    let closed =
+        ch.nu() * weak::quartic_weak(0.8, 0.5) / (t0 * t0) - ch.nu() / (4.0 * CUTOFF * CUTOFF);
     assert!(
         (loop_beta / closed - 1.0).abs() < tol::INTEGRATION,
         "{loop_beta} vs {closed}"
@@ -185,7 +186,7 @@ fn tricritical_point_and_quartic_closed_form() {
 #[test]
 fn quartic_from_loop_equals_finite_differences_and_stationarity() {
     let (_, m) = nested_pair(LAMBDA, CUTOFF, 100.0, 0.3 * tc0());
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let t = 0.7 * tc0();
     let s = OrderedSolver {
         acc: Accuracy {
@@ -273,7 +274,7 @@ fn anisotropic_gap_ratio() {
     assert!((ratio - 2.1397).abs() < 1e-4, "formula gives {ratio}");
 
     let m = common::opposite_cones(0.0, 100.0, 0.2);
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let tc = TcSolver::default().uniform(&m, ch).unwrap().tc;
     let st = OrderedSolver::default().solve(&m, ch, 0.0, None).unwrap();
     let d = st.chosen().delta;
@@ -294,11 +295,11 @@ fn plane_wave_state_inside_the_modulated_line() {
     let (_, m0) = nested_pair(LAMBDA, CUTOFF, 100.0, 0.0);
     let t0 = tc0();
     let s = OrderedSolver::default();
-    let v = m0.pockets[0].fermi_velocity_along([1.0, 0.0]);
+    let v = m0.pockets()[0].fermi_velocity_along([1.0, 0.0]);
     // The ordered states at T = 0.2 Tc0 and mismatch h (Tc0 units), searched over q.
     let states_at = |h: f64| {
         let (_, m) = nested_pair_fixed_g(&m0, CUTOFF, 100.0, h * t0);
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let q_scale = nestor::solvers::ordered::plane_wave_q_scale(&m, ch, 0.2 * t0);
         s.solve(&m, ch, 0.2 * t0, Some(q_scale)).unwrap()
     };

@@ -23,7 +23,7 @@ fn nested_tc_is_bcs() {
     let solver = TcSolver::default();
     for lambda in [0.2, 0.25, 0.3] {
         let (_, m) = nested_pair(lambda, 5.0, 100.0, 0.0);
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let r = solver.uniform(&m, ch).unwrap();
         let expected = 1.133_866 * 5.0 * (-1.0 / lambda).exp();
         assert!(
@@ -46,7 +46,7 @@ fn uniform_tc_follows_the_digamma_equation() {
     let tc0 = 1.133_865_9 * 5.0 * (-1.0f64 / lambda).exp();
     for h in [0.3, 0.6, 0.9, 1.0] {
         let (_, m) = nested_pair(lambda, 5.0, 100.0, h * tc0);
-        let r = solver.uniform(&m, &m.channels[0]).unwrap();
+        let r = solver.uniform(&m, &m.channels()[0]).unwrap();
         let t = weak::uniform_tc(h).unwrap().unwrap();
         assert!(
             (r.tc / tc0 - t).abs() < tol::TC_SAME_MODEL,
@@ -65,19 +65,19 @@ fn modulated_line_matches_published_values() {
     let lambda = 0.25;
     let tc0 = 1.133_865_9 * 5.0 * (-1.0f64 / lambda).exp();
     let (_, m0) = nested_pair(lambda, 5.0, 100.0, 0.0);
-    let v = m0.pockets[0].fermi_velocity_along([1.0, 0.0]);
+    let v = m0.pockets()[0].fermi_velocity_along([1.0, 0.0]);
     for (t, h_ref, q_ref) in [(0.2, 1.3519, 1.5023), (0.05, 1.6189, 1.0551 * 1.6189)] {
         let temp = t * tc0;
         let margin = |h: f64| {
             let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);
-            let (_, v) = solver.max_over_q(&m, &m.channels[0], temp)?;
+            let (_, v) = solver.max_over_q(&m, &m.channels()[0], temp)?;
             Ok(v - 1.0)
         };
         let h = brent_root("modulated line", h_ref - 0.05, h_ref + 0.05, 1e-9, margin)
             .unwrap()
             .x;
         let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);
-        let (q, _) = solver.max_over_q(&m, &m.channels[0], temp).unwrap();
+        let (q, _) = solver.max_over_q(&m, &m.channels()[0], temp).unwrap();
         let big_q = v * q[0].hypot(q[1]) / 2.0 / tc0;
         assert!((h - h_ref).abs() < tol::TABLE, "T = {t} Tc0: h = {h}");
         assert!(
@@ -89,7 +89,7 @@ fn modulated_line_matches_published_values() {
     let temp = 0.2 * tc0;
     let h = brent_root("uniform line", 0.93, 1.0, 1e-9, |h| {
         let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);
-        Ok(solver.g_chi(&m, &m.channels[0], [0.0, 0.0], temp, &solver.acc)? - 1.0)
+        Ok(solver.g_chi(&m, &m.channels()[0], [0.0, 0.0], temp, &solver.acc)? - 1.0)
     })
     .unwrap()
     .x;
@@ -120,14 +120,14 @@ fn lifshitz_point_on_the_uniform_line() {
     let (_, m0) = nested_pair(lambda, 5.0, 100.0, 0.0);
     let curvature_on_line = |h: f64| {
         let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let u = solver.uniform(&m, ch)?;
         assert_eq!(u.status, TcStatus::Unstable);
         let (c, err) = solver.chi_q_curvature(&m, ch, u.tc, [1.0, 0.0])?;
         // The natural scale of the curvature is nu (v/T)^2; the difference error is far below it.
-        let v = m.pockets[0].fermi_velocity_along([1.0, 0.0]);
+        let v = m.pockets()[0].fermi_velocity_along([1.0, 0.0]);
         assert!(
-            err < 1e-6 * ch.nu * (v / u.tc).powi(2),
+            err < 1e-6 * ch.nu() * (v / u.tc).powi(2),
             "curvature error {err}"
         );
         Ok(c)
@@ -136,7 +136,7 @@ fn lifshitz_point_on_the_uniform_line() {
         .unwrap()
         .x;
     let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);
-    let t = solver.uniform(&m, &m.channels[0]).unwrap().tc / tc0;
+    let t = solver.uniform(&m, &m.channels()[0]).unwrap().tc / tc0;
     assert!(
         (t - 0.5615).abs() < tol::SPECIAL_POINT,
         "Lifshitz T = {t} Tc0"
@@ -173,7 +173,7 @@ fn mismatch_sign_symmetry_and_modulated_above_uniform() {
     let mut tcs = Vec::new();
     for h in [h_ref, -h_ref] {
         let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, h * tc0);
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let u = solver.uniform(&m, ch).unwrap();
         assert_eq!(u.status, TcStatus::Unstable, "h {h}: {u:?}");
         // The exact uniform Tc is the weak-coupling one: this model is exactly the weak one at

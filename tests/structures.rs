@@ -38,7 +38,7 @@ fn loop_of_one_wavevector_is_the_plane_wave_beta() {
         (-0.9, 0.6, 0.0007),
     ] {
         let (_, m) = nested_pair(LAMBDA, CUTOFF, 100.0, h * t0);
-        let ch = &m.channels[0];
+        let ch = &m.channels()[0];
         let qv = [q * 0.6, q * 0.8];
         let b = quadruple_loop(&m, ch, [qv, qv, qv, qv], t * t0, &acc).unwrap();
         let shell = Shell::for_channel(&m, ch, qv).unwrap();
@@ -72,7 +72,7 @@ fn line_point_reproduces_the_modulated_line() {
     let q = v * line.q_star / 2.0 / t0;
     assert!((q / 1.5023 - 1.0).abs() < 3e-3, "v q*/2 = {q} Tc0");
     // The line: the most unstable g chi is one there.
-    let ch = &at.channels[0];
+    let ch = &at.channels()[0];
     let (_, gchi) = TcSolver::default().max_over_q(&at, ch, 0.2 * t0).unwrap();
     assert!((gchi - 1.0).abs() < 1e-7, "g chi = {gchi}");
     assert!(line.isotropic && line.maxima.len() == 1);
@@ -112,7 +112,7 @@ cutoff = 5.0
 "#;
     let src = nestor::config::ConfigSource::from_text("test", text).unwrap();
     let m = model(text);
-    let tc = nestor::solvers::tc::nested_tc(&m.channels[0]).unwrap();
+    let tc = nestor::solvers::tc::nested_tc(&m.channels()[0]).unwrap();
     let ps = PatternSolver::default();
     let (line, at) = ps.line_point(&src, 0, "h.offset", 0.3 * tc).unwrap();
     assert!(!line.isotropic);
@@ -131,13 +131,13 @@ cutoff = 5.0
         if r.on_line {
             // On the line the quadratic term vanishes to the root tolerance.
             assert!(
-                max_alpha < 1e-6 / at.channels[0].g,
+                max_alpha < 1e-6 / at.channels()[0].g(),
                 "{}: {:?}",
                 r.name,
                 r.alpha
             );
         } else {
-            assert!(r.alpha.iter().any(|&a| a > 1e-5 / at.channels[0].g));
+            assert!(r.alpha.iter().any(|&a| a > 1e-5 / at.channels()[0].g()));
             assert!(!r.preferred, "{} preferred off the line", r.name);
         }
     }
@@ -165,8 +165,8 @@ fn symmetry_related_channels_have_equal_tc() {
     for offset in [188.0, 184.6] {
         let o = nestor::config::Override::parse(&format!("G.offset={offset}")).unwrap();
         let m = src.with_overrides(&[o]).unwrap().build(None).unwrap();
-        let x = channel_tc(&m, &m.channels[0], &s, Method::Exact).unwrap();
-        let y = channel_tc(&m, &m.channels[1], &s, Method::Exact).unwrap();
+        let x = channel_tc(&m, &m.channels()[0], &s, Method::Exact).unwrap();
+        let y = channel_tc(&m, &m.channels()[1], &s, Method::Exact).unwrap();
         assert!(
             (x.uniform.tc - y.uniform.tc).abs() <= 1e-7 * x.uniform.tc.max(y.uniform.tc),
             "{} vs {}",
@@ -245,12 +245,12 @@ fn loop_quartic_equals_the_small_amplitude_nonlinear_omega() {
     let (src, _) = nested_pair(LAMBDA, CUTOFF, 100.0, 1.2 * t0);
     let ps = PatternSolver::default();
     let (line, m) = ps.line_point(&src, 0, "h.offset", t).unwrap();
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let q1 = line.maxima[0];
     let gchi = TcSolver::default()
         .g_chi(&m, ch, q1, t, &Accuracy::default())
         .unwrap();
-    let alpha = (1.0 - gchi) / ch.g;
+    let alpha = (1.0 - gchi) / ch.g();
     let grid = HarmonicGrid {
         rtol: 1e-7,
         ..HarmonicGrid::default()
@@ -300,7 +300,7 @@ fn helical_loops_carry_the_form_factors() {
     use nestor::model::structure::Structure;
     use nestor::solvers::pattern_state::omega_at_amplitude;
     let m = common::opposite_cones(30.0, 100.3, 0.3);
-    let ch = &m.channels[0];
+    let ch = &m.channels()[0];
     let t = 0.5 * nestor::solvers::tc::nested_tc(ch).unwrap();
     let acc = Accuracy::default();
     let q = [0.0002, 0.0006];
@@ -316,7 +316,7 @@ fn helical_loops_carry_the_form_factors() {
     let loops = structure_loops(&m, ch, &s, t, &acc).unwrap();
     let f4_loop: f64 = loops.iter().map(|l| l.1.value.re).sum();
     let gchi = TcSolver::default().g_chi(&m, ch, q, t, &acc).unwrap();
-    let alpha = (1.0 - gchi) / ch.g;
+    let alpha = (1.0 - gchi) / ch.g();
     let grid = HarmonicGrid {
         rtol: 1e-7,
         ..HarmonicGrid::default()
@@ -368,15 +368,16 @@ fn nonlinear_states_approach_the_landau_minimum_at_the_line() {
             &PatternSolver::candidate_structures(&line, &[]),
         )
         .unwrap();
-    let pinned = src.build(None).unwrap().pinned_couplings();
+    let base = src.build(None).unwrap();
+    let param = base.param("h", "offset", None).unwrap();
     let q1 = line.maxima[0];
     let ratio = |name: &str, d: f64| -> f64 {
-        let m = model_with(&src, &pinned, "h.offset", line.value - d).unwrap();
-        let ch = &m.channels[0];
+        let m = model_with(&base, param, line.value - d).unwrap();
+        let ch = &m.channels()[0];
         let gchi = TcSolver::default()
             .g_chi(&m, ch, q1, t, &Accuracy::default())
             .unwrap();
-        let alpha = (1.0 - gchi) / ch.g;
+        let alpha = (1.0 - gchi) / ch.g();
         let s = Structure::named(name, q1).unwrap();
         let n = s.len();
         let quartic = ranked.iter().find(|r| r.name == name).unwrap().quartic;

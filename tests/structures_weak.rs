@@ -198,7 +198,7 @@ fn loop_coefficients_match_the_full_dispersion_loop() {
     for t in [0.3, 0.1] {
         let (h, q) = modulated_line(t).unwrap();
         let (_, model) = common::nested_pair(lambda, cutoff, e_f, h * t0);
-        let ch = &model.channels[0];
+        let ch = &model.channels()[0];
         let hex = Structure::named("hexagon", [q, 0.0]).unwrap().wavevectors;
         let sq = Structure::named("square", [q, 0.0]).unwrap().wavevectors;
         let quads = [

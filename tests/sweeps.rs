@@ -61,7 +61,7 @@ fn a_failed_point_is_recorded_and_the_sweep_goes_on() {
     let grid = Grid::new(vec![parse_range("e.offset=-100:10:2").unwrap()]).unwrap();
     let pts = exact_scan(&src, &m, &grid);
     assert!(pts[0].result.is_ok());
-    let err = pts[1].result.as_ref().unwrap_err();
+    let err = pts[1].result.as_ref().unwrap_err().to_string();
     assert!(err.contains("offset"), "{err}");
 }
 

@@ -67,7 +67,7 @@ impl ConfigArgs {
 
 /// Prints the model's warnings on stderr.
 pub fn warn(model: &Model) {
-    for w in &model.warnings {
+    for w in model.warnings() {
         eprintln!("nestor: warning: {w}");
     }
 }
@@ -92,16 +92,16 @@ pub fn channel_index(model: &Model, name: Option<&String>) -> Result<usize, Fail
     match name {
         None => Ok(0),
         Some(n) => model
-            .channels
+            .channels()
             .iter()
-            .position(|c| &c.label == n || c.name.as_ref() == Some(n))
+            .position(|c| c.label() == n || c.name() == Some(n.as_str()))
             .ok_or_else(|| {
                 Failure::Input(format!(
                     "--channel {n}: no such channel; channels: {}",
                     model
-                        .channels
+                        .channels()
                         .iter()
-                        .map(|c| c.label.clone())
+                        .map(|c| c.label().to_string())
                         .collect::<Vec<_>>()
                         .join(", ")
                 ))

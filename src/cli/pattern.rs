@@ -79,7 +79,7 @@ pub fn run_on(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outc
             Err(e) => problems.push(format!("multi-wavevector states: {e}")),
         }
     }
-    let ch = &model.channels[channel];
+    let ch = &model.channels()[channel];
     let chosen = lowest(&candidates);
     let waves = density_waves(model, ch, &candidates[chosen]);
     let unpaired = unpaired_correlation(&waves, &candidates[chosen], a.fov);
@@ -96,7 +96,7 @@ pub fn run_on(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outc
         fov: a.fov,
         unpaired_correlation: unpaired,
     };
-    let stem = format!("pattern_{}", ch.label);
+    let stem = format!("pattern_{}", ch.label());
     let written = write_pattern(&report, &a.out, &stem).map_err(Failure::Input)?;
     if a.json {
         print_json(&pattern_json(&report));
@@ -144,7 +144,8 @@ fn validate(
     // The path must name a field of the configuration.
     let probe = Override::parse(&format!("{path}=0"))
         .map_err(|e| Failure::Input(e.0.replace("--set", "--along")))?;
-    src.value_of(&probe)
+    probe
+        .resolve(&src.origin, model)
         .map_err(|e| Failure::Input(format!("--along {path}: {}", e.0)))?;
     let extra = user_structures(&a.wavevectors)?;
     Ok((channel, path, extra))

@@ -73,7 +73,7 @@ pub fn run_on(
     a: &PhasesArgs,
 ) -> Result<Outcome, Failure> {
     let channel = channel_index(model, a.channel.as_ref())?;
-    if model.channels.is_empty() {
+    if model.channels().is_empty() {
         return Err(Failure::Input(format!(
             "{}: the configuration has no [[channel]]",
             src.origin
@@ -100,8 +100,7 @@ pub fn run_on(
     let mut d = phase_diagram(src, model, grid, &opts, &tc, &OrderedSolver::default())?;
     if !a.fixed_density && a.structure_marks > 0 {
         mark_structures(
-            src,
-            grid,
+            &nestor::sweeps::Sweep::new(src, model, grid)?,
             &mut d,
             &PatternSolver::default(),
             a.structure_marks,
@@ -117,7 +116,7 @@ pub fn run_on(
             }
         }
     }
-    let stem = format!("phases_{}", model.channels[channel].label);
+    let stem = format!("phases_{}", model.channels()[channel].label());
     let written = nestor::reports::phases::write_phases(src, model, grid, &d, &a.out, &stem)
         .map_err(Failure::Input)?;
     for w in &written {

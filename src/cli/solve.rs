@@ -52,7 +52,7 @@ pub fn run(a: &SolveStateArgs) -> Result<Outcome, Failure> {
     };
     let mut json_channels = Vec::new();
     let mut text = String::new();
-    for idx in 0..model.channels.len() {
+    for idx in 0..model.channels().len() {
         let mut cj = at.channel_states(idx, a.uniform_only, &mut text)?;
         if a.fixed_density {
             cj["fixed_density"] = at.fixed_density(idx, &mut text)?;
@@ -65,7 +65,7 @@ pub fn run(a: &SolveStateArgs) -> Result<Outcome, Failure> {
         let mut v = tables::header(&src, "solve");
         v["coupled_channels"] = serde_json::Value::Array(coupled);
         v["channels"] = serde_json::Value::Array(json_channels);
-        v["warnings"] = serde_json::json!(model.warnings);
+        v["warnings"] = serde_json::json!(model.warnings());
         print_json(&v);
     } else {
         print!("{text}");
@@ -91,7 +91,7 @@ impl SolveAt<'_> {
         text: &mut String,
     ) -> Result<serde_json::Value, Failure> {
         let (model, s, t) = (self.model, self.s, self.t);
-        let ch = &model.channels[idx];
+        let ch = &model.channels()[idx];
         let qs = (!uniform_only).then(|| plane_wave_q_scale(model, ch, t));
         let st = s.solve(model, ch, t, qs).map_err(NestorError::from)?;
         let spectra = st

@@ -43,7 +43,7 @@ pub fn all_channels(
     method: Method,
 ) -> Result<Vec<ChannelTc>, Failure> {
     Ok(model
-        .channels
+        .channels()
         .iter()
         .map(|ch| channel_tc(model, ch, s, method))
         .collect::<Result<Vec<_>, _>>()?)
@@ -51,7 +51,7 @@ pub fn all_channels(
 
 /// An input error naming the configuration when it has no channel ("...: `what`").
 pub fn require_channels(src: &ConfigSource, model: &Model, what: &str) -> Result<(), Failure> {
-    if model.channels.is_empty() {
+    if model.channels().is_empty() {
         return Err(Failure::Input(format!(
             "{}: the configuration has no [[channel]]: {what}",
             src.origin

@@ -1,7 +1,8 @@
-//! Configuration: the TOML text, `--set PATH=VALUE` overrides, and validation into the frozen
-//! [`Model`]. Two stages (house style): the raw TOML table (syntax, overrides), then a validated
-//! model; only the model reaches the physics. Every message names the file, the key and what is
-//! allowed.
+//! Configuration: the TOML text, `--set PATH=VALUE` overrides, parsing into pocket and channel
+//! specs and then [`Model::new_pinned`]. Two stages (house style): the raw TOML table (syntax,
+//! overrides), then a validated model; only the model reaches the physics. Paths of `--vary` are
+//! resolved here into typed [`crate::model::Param`]s. Every message names the file, the key and
+//! what is allowed.
 
 mod overrides;
 mod parse;
@@ -56,25 +57,9 @@ impl ConfigSource {
     }
 
     /// Validates into a model. Couplings given as `lambda` are converted to g with this
-    /// configuration's pair density of states, unless `pinned` fixes g per channel (a sweep point:
-    /// g comes from the base configuration).
+    /// configuration's pair density of states, unless `pinned` fixes g per channel.
     pub fn build(&self, pinned: Option<&PinnedCouplings>) -> Result<Model, InputError> {
-        parse::build_model(&self.origin, &self.table, pinned, &[])
-    }
-
-    /// As [`build`](Self::build), but channels whose coupling keys appear in `unpinned_keys`
-    /// (e.g. a swept `ab.lambda`) take their coupling from this configuration.
-    pub fn build_with(
-        &self,
-        pinned: Option<&PinnedCouplings>,
-        unpinned_channels: &[String],
-    ) -> Result<Model, InputError> {
-        parse::build_model(&self.origin, &self.table, pinned, unpinned_channels)
-    }
-
-    /// The value in this configuration of the field that `o` would set.
-    pub fn value_of(&self, o: &Override) -> Result<f64, InputError> {
-        overrides::value_in(&self.origin, &self.table, o)
+        parse::build_model(&self.origin, &self.table, pinned)
     }
 
     /// The configuration text as TOML (after overrides), for provenance headers.
@@ -86,6 +71,6 @@ impl ConfigSource {
 impl Model {
     /// The couplings of this model, to pin a sweep to the base configuration.
     pub fn pinned_couplings(&self) -> PinnedCouplings {
-        PinnedCouplings(self.channels.iter().map(|c| c.g).collect())
+        PinnedCouplings(self.channels().iter().map(|c| c.g()).collect())
     }
 }

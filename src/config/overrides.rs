@@ -5,16 +5,26 @@
 //! isotropic mass, `B.mass.x=0.3` sets one axis).
 
 use crate::error::InputError;
+use crate::model::{Model, Param, CHANNEL_KEYS, POCKET_KEYS, SURFACE_KEYS};
 use toml::{Table, Value};
 
-/// Numeric pocket keys that may be overridden.
-pub const POCKET_KEYS: &[&str] = &[
-    "offset", "mass", "velocity", "kf", "vf", "angle", "center", "phase",
-];
-/// Numeric channel keys that may be overridden.
-pub const CHANNEL_KEYS: &[&str] = &["lambda", "g", "cutoff", "overlap"];
-/// Numeric surface keys.
-pub const SURFACE_KEYS: &[&str] = &["a", "b"];
+/// Resolves `target.key[component]` against `model` into a typed parameter and checks that the
+/// pocket or channel can take it (setting it to its present value). Messages name the file and
+/// the path as `--set`/`--vary` do.
+fn resolve(
+    origin: &str,
+    path: &str,
+    model: &Model,
+    (target, key, component): (&str, &str, Option<usize>),
+) -> Result<Param, InputError> {
+    let p = model
+        .param(target, key, component)
+        .map_err(|e| InputError::new(format!("{origin}: --set/--vary {path}: {e}")))?;
+    model
+        .with(&[(p, model.value(p))])
+        .map_err(|e| InputError::new(format!("{origin}: {e}")))?;
+    Ok(p)
+}
 
 /// One override: target name, key, optional component, value.
 #[derive(Debug, Clone, PartialEq)]
@@ -53,6 +63,13 @@ impl Override {
         })
     }
 
+    /// The typed parameter this override sets in `model` (built from the file `origin`).
+    pub fn resolve(&self, origin: &str, model: &Model) -> Result<Param, InputError> {
+        let parts = (self.target.as_str(), self.key.as_str(), self.component);
+        resolve(origin, &self.path(), model, parts)
+    }
+
+    /// The PATH text, `NAME.key` or `NAME.key[c]`.
     pub fn path(&self) -> String {
         match self.component {
             Some(c) => format!("{}.{}[{c}]", self.target, self.key),
@@ -73,6 +90,7 @@ pub struct Range {
 }
 
 impl Range {
+    /// The n values from `from` to `to` inclusive.
     pub fn values(&self) -> Vec<f64> {
         if self.n == 1 {
             return vec![self.from];
@@ -82,6 +100,7 @@ impl Range {
             .collect()
     }
 
+    /// The override setting this range's path to `value`.
     pub fn at(&self, value: f64) -> Override {
         Override {
             target: self.target.clone(),
@@ -91,8 +110,14 @@ impl Range {
         }
     }
 
+    /// The PATH text of the range.
     pub fn path(&self) -> String {
         self.at(0.0).path()
+    }
+
+    /// The typed parameter this range varies in `model` (built from the file `origin`).
+    pub fn resolve(&self, origin: &str, model: &Model) -> Result<Param, InputError> {
+        self.at(0.0).resolve(origin, model)
     }
 }
 
@@ -224,6 +249,15 @@ pub fn apply(origin: &str, table: &mut Table, o: &Override) -> Result<(), InputE
         .and_then(|a| a.get_mut(index))
         .and_then(Value::as_table_mut)
         .ok_or_else(|| err(format!("[[{section}]] entry is not a table")))?;
+    set_key(item, o, &err)
+}
+
+/// Sets the override's key in one `[[pocket]]` or `[[channel]]` table.
+fn set_key(
+    item: &mut Table,
+    o: &Override,
+    err: &dyn Fn(String) -> InputError,
+) -> Result<(), InputError> {
     let v = Value::Float(o.value);
     match o.key.as_str() {
         "phase" => {
@@ -273,47 +307,6 @@ pub fn apply(origin: &str, table: &mut Table, o: &Override) -> Result<(), InputE
         }
     }
     Ok(())
-}
-
-/// The current value of the field an override would set (for a search that starts from it).
-pub fn value_in(origin: &str, table: &Table, o: &Override) -> Result<f64, InputError> {
-    let path = o.path();
-    let err = |why: String| InputError::new(format!("{origin}: {path}: {why}"));
-    let item = if o.target == "surface" {
-        table.get("surface").and_then(Value::as_table)
-    } else {
-        ["pocket", "channel"]
-            .iter()
-            .filter_map(|sec| table.get(*sec).and_then(Value::as_array))
-            .flatten()
-            .filter_map(Value::as_table)
-            .find(|it| it.get("name").and_then(Value::as_str) == Some(o.target.as_str()))
-    }
-    .ok_or_else(|| {
-        err(format!(
-            "no pocket, channel or surface named `{}`",
-            o.target
-        ))
-    })?;
-    let number = |v: &Value| match v {
-        Value::Float(x) => Some(*x),
-        Value::Integer(i) => Some(*i as f64),
-        _ => None,
-    };
-    let field = if o.key == "phase" {
-        item.get("spin")
-            .and_then(Value::as_table)
-            .and_then(|t| t.get("phase"))
-    } else {
-        item.get(&o.key)
-    }
-    .ok_or_else(|| err(format!("`{}` is not given in the configuration", o.key)))?;
-    let value = match (field, o.component) {
-        (Value::Array(a), Some(c)) => a.get(c).and_then(number),
-        (Value::Array(_), None) => None,
-        (v, _) => number(v),
-    };
-    value.ok_or_else(|| err("not a number (a two-component key takes .x or .y)".into()))
 }
 
 #[cfg(test)]

@@ -1,16 +1,13 @@
-//! Validation of the raw TOML table into the frozen model: key by key, with messages naming the
-//! file, the entry, the key and the allowed range. Also converts `lambda` to g with the pair
-//! density of states of this configuration.
+//! Parsing of the raw TOML table into pocket and channel specs, key by key, with messages naming
+//! the file, the entry, the key and the allowed range; the specs then go to [`Model::new_pinned`],
+//! which checks the values and computes every derived quantity.
 
 use super::PinnedCouplings;
 use crate::error::InputError;
-use crate::kernels::susceptibility::nesting_line;
-use crate::kernels::{Accuracy, Shell};
 use crate::model::{
-    form_factor, spin_channels, Channel, CouplingInput, Dispersion, Lattice, Model, Pocket,
-    PocketKind, Spin, SpinMatrix,
+    ChannelSpec, CouplingInput, DispersionSpec, Lattice, Model, PocketKind, PocketSpec, SpinMatrix,
+    SpinSpec,
 };
-use crate::units::HBAR2_OVER_2ME;
 use toml::{Table, Value};
 
 const TOP_KEYS: &[&str] = &["pocket", "channel", "surface"];
@@ -27,9 +24,6 @@ const CHANNEL_KEYS: &[&str] = &[
     "overlap",
 ];
 const SURFACE_KEYS: &[&str] = &["lattice", "a", "b"];
-
-/// Above this lambda mean-field theory is doubtful (a warning, not an error).
-const STRONG_LAMBDA: f64 = 0.5;
 
 struct Ctx<'a> {
     origin: &'a str,
@@ -87,10 +81,7 @@ fn number(ctx: &Ctx, key: &str, v: &Value, what: &str) -> Result<f64, InputError
 fn positive(ctx: &Ctx, key: &str, v: &Value, unit: &str, hi: f64) -> Result<f64, InputError> {
     let what = format!("a number in (0, {hi}] {unit}");
     let x = number(ctx, key, v, &what)?;
-    if !(x > 0.0 && x <= hi) {
-        return Err(ctx.err(key, format!("{x} is out of range: expected {what}")));
-    }
-    Ok(x)
+    crate::model::check_positive(x, unit, hi).map_err(|why| ctx.err(key, why))
 }
 
 /// A number or a pair [x, y], each in (0, hi].
@@ -134,14 +125,36 @@ fn required<'t>(ctx: &Ctx, t: &'t Table, key: &str, what: &str) -> Result<&'t Va
         .ok_or_else(|| ctx.err(key, format!("missing; expected {what}")))
 }
 
-fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError> {
-    let mut ctx = Ctx {
+/// A required number in (0, hi]; `key` is (name, what is expected when it is missing).
+fn required_positive(
+    ctx: &Ctx,
+    t: &Table,
+    (key, what): (&str, &str),
+    unit: &str,
+    hi: f64,
+) -> Result<f64, InputError> {
+    positive(ctx, key, required(ctx, t, key, what)?, unit, hi)
+}
+
+/// The i-th `[[section]]` entry as a table, with its message context.
+fn entry_table<'a>(
+    origin: &'a str,
+    section: &str,
+    i: usize,
+    v: &'a Value,
+) -> Result<(Ctx<'a>, &'a Table), InputError> {
+    let ctx = Ctx {
         origin,
-        entry: format!("[[pocket]] #{}", i + 1),
+        entry: format!("[[{section}]] #{}", i + 1),
     };
     let t = v
         .as_table()
-        .ok_or_else(|| ctx.whole("each [[pocket]] must be a table"))?;
+        .ok_or_else(|| ctx.whole(format!("each [[{section}]] must be a table")))?;
+    Ok((ctx, t))
+}
+
+fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<PocketSpec, InputError> {
+    let (mut ctx, t) = entry_table(origin, "pocket", i, v)?;
     let name = string(
         &ctx,
         "name",
@@ -153,12 +166,30 @@ fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError>
     }
     ctx.entry = format!("pocket \"{name}\"");
     check_keys(&ctx, t, POCKET_KEYS)?;
-    let kind_s = string(
-        &ctx,
-        "kind",
-        required(&ctx, t, "kind", "\"electron\", \"hole\" or \"dirac\"")?,
-        "\"electron\", \"hole\" or \"dirac\"",
-    )?;
+    let (kind, kind_s) = parse_kind(&ctx, t)?;
+    let center = parse_center(&ctx, t)?;
+    let angle_deg = match t.get("angle") {
+        Some(v) => number(&ctx, "angle", v, "an angle in degrees")?,
+        None => 0.0,
+    };
+    let dispersion = match kind {
+        PocketKind::Electron | PocketKind::Hole => parse_parabolic(&ctx, t, kind_s)?,
+        PocketKind::Dirac => parse_cone(&ctx, t)?,
+    };
+    let spin = parse_spin(&ctx, origin, name, t, kind)?;
+    Ok(PocketSpec {
+        name: name.to_string(),
+        kind,
+        center,
+        angle_deg,
+        dispersion,
+        spin,
+    })
+}
+
+fn parse_kind<'t>(ctx: &Ctx, t: &'t Table) -> Result<(PocketKind, &'t str), InputError> {
+    let kinds = "\"electron\", \"hole\" or \"dirac\"";
+    let kind_s = string(ctx, "kind", required(ctx, t, "kind", kinds)?, kinds)?;
     let kind = match kind_s {
         "electron" => PocketKind::Electron,
         "hole" => PocketKind::Hole,
@@ -172,200 +203,134 @@ fn parse_pocket(origin: &str, i: usize, v: &Value) -> Result<Pocket, InputError>
             ))
         }
     };
-    let center = match required(&ctx, t, "center", "[kx, ky] in 1/nm")? {
-        Value::Array(a) if a.len() == 2 => [
-            number(&ctx, "center", &a[0], "[kx, ky] in 1/nm")?,
-            number(&ctx, "center", &a[1], "[kx, ky] in 1/nm")?,
-        ],
-        Value::Array(a) => {
-            return Err(ctx.err(
-                "center",
-                format!("expected [kx, ky] in 1/nm, got {} components", a.len()),
-            ))
-        }
-        other => {
-            return Err(ctx.err(
-                "center",
-                format!("expected [kx, ky] in 1/nm, got {}", type_name(other)),
-            ))
-        }
-    };
-    if center.iter().any(|c| c.abs() > 1e3) {
-        return Err(ctx.err("center", "components must lie in [-1000, 1000] 1/nm"));
+    Ok((kind, kind_s))
+}
+
+fn parse_center(ctx: &Ctx, t: &Table) -> Result<[f64; 2], InputError> {
+    match required(ctx, t, "center", "[kx, ky] in 1/nm")? {
+        Value::Array(a) if a.len() == 2 => Ok([
+            number(ctx, "center", &a[0], "[kx, ky] in 1/nm")?,
+            number(ctx, "center", &a[1], "[kx, ky] in 1/nm")?,
+        ]),
+        Value::Array(a) => Err(ctx.err(
+            "center",
+            format!("expected [kx, ky] in 1/nm, got {} components", a.len()),
+        )),
+        other => Err(ctx.err(
+            "center",
+            format!("expected [kx, ky] in 1/nm, got {}", type_name(other)),
+        )),
     }
-    let angle_deg = match t.get("angle") {
-        Some(v) => number(&ctx, "angle", v, "an angle in degrees")?,
-        None => 0.0,
-    };
-    if angle_deg.abs() > 360.0 {
+}
+
+fn parse_offset(ctx: &Ctx, t: &Table) -> Result<Option<f64>, InputError> {
+    t.get("offset")
+        .map(|v| number(ctx, "offset", v, "an energy in meV"))
+        .transpose()
+}
+
+/// `mass` + `offset`, or `kf` + `vf`, of an electron or hole pocket.
+fn parse_parabolic(ctx: &Ctx, t: &Table, kind_s: &str) -> Result<DispersionSpec, InputError> {
+    let offset = parse_offset(ctx, t)?;
+    if t.contains_key("velocity") {
         return Err(ctx.err(
-            "angle",
-            format!("{angle_deg} is out of range: expected degrees in [-360, 360]"),
+            "velocity",
+            format!("a {kind_s} pocket takes `mass` + `offset`, or `kf` + `vf`; `velocity` is for \"dirac\" pockets"),
         ));
     }
-    let offset = t
-        .get("offset")
-        .map(|v| number(&ctx, "offset", v, "an energy in meV"))
-        .transpose()?;
-    if let Some(o) = offset {
-        if o.abs() > 1e5 {
-            return Err(ctx.err(
-                "offset",
-                format!("{o} is out of range: expected |offset| <= 1e5 meV"),
-            ));
+    let has_mass = t.contains_key("mass");
+    let has_kf = t.contains_key("kf") || t.contains_key("vf");
+    match (has_mass, has_kf) {
+        (true, true) => Err(ctx.whole("give either `mass` + `offset`, or `kf` + `vf`, not both")),
+        (false, false) => Err(ctx.err(
+            "mass",
+            "missing; a parabolic pocket needs `mass` (electron masses) + `offset` (meV), or `kf` (1/nm) + `vf` (hbar v, meV nm)",
+        )),
+        (true, false) => {
+            let mass = scalar_or_pair(ctx, "mass", &t["mass"], "electron masses", 1e3)?;
+            let offset = offset.ok_or_else(|| {
+                ctx.err("offset", "missing; expected the band-edge energy in meV")
+            })?;
+            Ok(DispersionSpec::Mass { mass, offset })
+        }
+        (false, true) => {
+            if offset.is_some() {
+                return Err(ctx.err(
+                    "offset",
+                    "not allowed with `kf` + `vf` (the band edge follows from them: -+ hbar kF vF / 2)",
+                ));
+            }
+            let kf = required_positive(ctx, t, ("kf", "kF in 1/nm"), "1/nm", 1e2)?;
+            let vf = required_positive(ctx, t, ("vf", "hbar vF in meV nm"), "meV nm", 1e5)?;
+            Ok(DispersionSpec::FermiPoint { kf, vf })
         }
     }
-    let dispersion = match kind {
-        PocketKind::Electron | PocketKind::Hole => {
-            let sign = if kind == PocketKind::Electron {
-                1.0
-            } else {
-                -1.0
-            };
-            if t.contains_key("velocity") {
-                return Err(ctx.err(
-                    "velocity",
-                    format!("a {kind_s} pocket takes `mass` + `offset`, or `kf` + `vf`; `velocity` is for \"dirac\" pockets"),
-                ));
-            }
-            let has_mass = t.contains_key("mass");
-            let has_kf = t.contains_key("kf") || t.contains_key("vf");
-            let (c, offset) = match (has_mass, has_kf) {
-                (true, true) => {
-                    return Err(ctx.whole("give either `mass` + `offset`, or `kf` + `vf`, not both"))
-                }
-                (false, false) => {
-                    return Err(ctx.err(
-                        "mass",
-                        "missing; a parabolic pocket needs `mass` (electron masses) + `offset` (meV), or `kf` (1/nm) + `vf` (hbar v, meV nm)",
-                    ))
-                }
-                (true, false) => {
-                    let m = scalar_or_pair(&ctx, "mass", &t["mass"], "electron masses", 1e3)?;
-                    if m.iter().any(|&x| x < 1e-3) {
-                        return Err(ctx.err("mass", "out of range: expected masses in [0.001, 1000] electron masses"));
-                    }
-                    let offset = offset.ok_or_else(|| {
-                        ctx.err("offset", "missing; expected the band-edge energy in meV")
-                    })?;
-                    ([HBAR2_OVER_2ME / m[0], HBAR2_OVER_2ME / m[1]], offset)
-                }
-                (false, true) => {
-                    if offset.is_some() {
-                        return Err(ctx.err(
-                            "offset",
-                            "not allowed with `kf` + `vf` (the band edge follows from them: -+ hbar kF vF / 2)",
-                        ));
-                    }
-                    let kf = positive(&ctx, "kf", required(&ctx, t, "kf", "kF in 1/nm")?, "1/nm", 1e2)?;
-                    let vf = positive(&ctx, "vf", required(&ctx, t, "vf", "hbar vF in meV nm")?, "meV nm", 1e5)?;
-                    // m = hbar kF / vF: hbar^2/(2m) = (hbar vF)/(2 kF); E0 = -+ hbar kF vF / 2.
-                    let c = vf / (2.0 * kf);
-                    let edge = kf * vf / 2.0;
-                    if edge <= 0.0 || !c.is_finite() {
-                        return Err(ctx.err(
-                            "vf",
-                            format!("kf = {kf} 1/nm with vf = {vf} meV nm gives a band edge kf vf / 2 = {edge} meV, which is not usable; allowed: kf vf / 2 > 0 and vf / kf finite"),
-                        ));
-                    }
-                    ([c, c], -sign * edge)
-                }
-            };
-            if sign * offset >= 0.0 {
-                return Err(ctx.err(
-                    "offset",
-                    if kind == PocketKind::Electron {
-                        format!("{offset} meV: an electron pocket's band edge must lie below the chemical potential (offset < 0), otherwise it has no Fermi surface")
-                    } else {
-                        format!("{offset} meV: a hole pocket's band edge must lie above the chemical potential (offset > 0), otherwise it has no Fermi surface")
-                    },
-                ));
-            }
-            Dispersion::Parabolic { sign, c, offset }
+}
+
+/// `velocity` + `offset` of a Dirac pocket.
+fn parse_cone(ctx: &Ctx, t: &Table) -> Result<DispersionSpec, InputError> {
+    let offset = parse_offset(ctx, t)?;
+    for k in ["mass", "kf", "vf"] {
+        if t.contains_key(k) {
+            return Err(ctx.err(k, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)"));
         }
-        PocketKind::Dirac => {
-            for k in ["mass", "kf", "vf"] {
-                if t.contains_key(k) {
-                    return Err(ctx.err(k, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)"));
-                }
-            }
-            let v = scalar_or_pair(
-                &ctx,
-                "velocity",
-                required(&ctx, t, "velocity", "hbar v in meV nm, or [vx, vy]")?,
-                "meV nm",
-                1e5,
-            )?;
-            let offset = offset.ok_or_else(|| {
-                ctx.err(
-                    "offset",
-                    "missing; expected the Dirac-point energy in meV (non-zero)",
-                )
-            })?;
-            if offset == 0.0 {
-                return Err(ctx.err(
-                    "offset",
-                    "0 meV: a Dirac point at the chemical potential has no Fermi surface; the offset must be non-zero (< 0 electron-like, > 0 hole-like)",
-                ));
-            }
-            Dispersion::Dirac {
-                branch: if offset < 0.0 { 1.0 } else { -1.0 },
-                v,
-                offset,
-            }
-        }
-    };
-    let spin = match t.get("spin") {
-        None => {
-            if kind == PocketKind::Dirac {
-                Spin::Helical {
-                    winding: 1,
-                    phase: 0.0,
-                }
-            } else {
-                Spin::Degenerate
-            }
-        }
-        Some(Value::String(s)) if s == "degenerate" => Spin::Degenerate,
+    }
+    let velocity = scalar_or_pair(
+        ctx,
+        "velocity",
+        required(ctx, t, "velocity", "hbar v in meV nm, or [vx, vy]")?,
+        "meV nm",
+        1e5,
+    )?;
+    let offset = offset.ok_or_else(|| {
+        ctx.err(
+            "offset",
+            "missing; expected the Dirac-point energy in meV (non-zero)",
+        )
+    })?;
+    Ok(DispersionSpec::Cone { velocity, offset })
+}
+
+fn parse_spin(
+    ctx: &Ctx,
+    origin: &str,
+    name: &str,
+    t: &Table,
+    kind: PocketKind,
+) -> Result<SpinSpec, InputError> {
+    match t.get("spin") {
+        None if kind == PocketKind::Dirac => Ok(SpinSpec::Helical {
+            winding: 1,
+            phase_deg: 0.0,
+        }),
+        None => Ok(SpinSpec::Degenerate),
+        Some(Value::String(s)) if s == "degenerate" => Ok(SpinSpec::Degenerate),
         Some(Value::Table(st)) => {
             let sctx = Ctx {
                 origin,
                 entry: format!("pocket \"{name}\" spin"),
             };
             check_keys(&sctx, st, &["winding", "phase"])?;
-            let w = match st.get("winding") {
+            let winding = match st.get("winding") {
                 Some(Value::Integer(w)) if *w == 1 || *w == -1 => *w as i32,
                 Some(other) => {
                     return Err(sctx.err("winding", format!("expected 1 or -1, got {other}")))
                 }
                 None => return Err(sctx.err("winding", "missing; expected 1 or -1")),
             };
-            let phase = match st.get("phase") {
+            let phase_deg = match st.get("phase") {
                 Some(v) => number(&sctx, "phase", v, "a texture phase in degrees")?,
                 None => 0.0,
             };
-            Spin::Helical {
-                winding: w,
-                phase: phase.to_radians(),
-            }
+            Ok(SpinSpec::Helical { winding, phase_deg })
         }
-        Some(other) => {
-            return Err(ctx.err(
-                "spin",
-                format!(
+        Some(other) => Err(ctx.err(
+            "spin",
+            format!(
                 "expected \"degenerate\" or {{ winding = 1 or -1, phase = degrees }}, got {other}"
             ),
-            ))
-        }
-    };
-    Ok(Pocket::new(
-        name.to_string(),
-        kind,
-        center,
-        dispersion,
-        angle_deg.to_radians(),
-        spin,
-    ))
+        )),
+    }
 }
 
 fn parse_surface(origin: &str, v: &Value) -> Result<Lattice, InputError> {
@@ -386,13 +351,7 @@ fn parse_surface(origin: &str, v: &Value) -> Result<Lattice, InputError> {
         )?,
         "\"square\", \"hexagonal\" or \"rectangular\"",
     )?;
-    let a = positive(
-        &ctx,
-        "a",
-        required(&ctx, t, "a", "the lattice constant in nm")?,
-        "nm",
-        1e3,
-    )?;
+    let a = required_positive(&ctx, t, ("a", "the lattice constant in nm"), "nm", 1e3)?;
     let b = t
         .get("b")
         .map(|v| positive(&ctx, "b", v, "nm", 1e3))
@@ -421,7 +380,6 @@ pub(super) fn build_model(
     origin: &str,
     table: &Table,
     pinned: Option<&PinnedCouplings>,
-    unpinned: &[String],
 ) -> Result<Model, InputError> {
     let top = Ctx {
         origin,
@@ -438,17 +396,11 @@ pub(super) fn build_model(
             ))
         }
     };
-    let mut pockets = Vec::new();
-    for (i, v) in pockets_v.iter().enumerate() {
-        let p = parse_pocket(origin, i, v)?;
-        if pockets.iter().any(|q: &Pocket| q.name == p.name) {
-            return Err(InputError::new(format!(
-                "{origin}: pocket \"{}\": `name`: duplicate; pocket names must be unique",
-                p.name
-            )));
-        }
-        pockets.push(p);
-    }
+    let pockets = pockets_v
+        .iter()
+        .enumerate()
+        .map(|(i, v)| parse_pocket(origin, i, v))
+        .collect::<Result<Vec<_>, _>>()?;
     let surface = table
         .get("surface")
         .map(|v| parse_surface(origin, v))
@@ -458,213 +410,133 @@ pub(super) fn build_model(
         Some(_) => return Err(top.err("channel", "expected [[channel]] tables")),
         None => &[],
     };
-    let mut warnings = Vec::new();
     let mut channels = Vec::new();
+    let mut pins = Vec::new();
     for (i, v) in channels_v.iter().enumerate() {
-        let mut ctx = Ctx {
-            origin,
-            entry: format!("[[channel]] #{}", i + 1),
-        };
-        let t = v
-            .as_table()
-            .ok_or_else(|| ctx.whole("each [[channel]] must be a table"))?;
-        let name = t
-            .get("name")
-            .map(|v| string(&ctx, "name", v, "a label").map(str::to_string))
-            .transpose()?;
-        if let Some(n) = &name {
-            if n.trim().is_empty() || n.contains(['.', '=', '[', ']']) {
-                return Err(ctx.err("name", "must be non-empty and contain none of . = [ ]"));
-            }
-            if pockets.iter().any(|p| &p.name == n)
-                || channels
-                    .iter()
-                    .any(|c: &Channel| c.name.as_ref() == Some(n))
-            {
-                return Err(ctx.err(
-                    "name",
-                    format!("`{n}` is already used by a pocket or channel"),
-                ));
-            }
-            ctx.entry = format!("channel \"{n}\"");
-        }
-        check_keys(&ctx, t, CHANNEL_KEYS)?;
-        let names = match required(
-            &ctx,
-            t,
-            "pockets",
-            "[\"electron-like\", \"hole-like\"] pocket names",
-        )? {
-            Value::Array(a) if a.len() == 2 => [
-                string(&ctx, "pockets", &a[0], "pocket names")?,
-                string(&ctx, "pockets", &a[1], "pocket names")?,
-            ],
-            _ => {
-                return Err(ctx.err(
-                    "pockets",
-                    "expected two pocket names, electron-like first: [\"A\", \"B\"]",
-                ))
-            }
-        };
-        let find = |n: &str| -> Result<usize, InputError> {
-            pockets.iter().position(|p| p.name == n).ok_or_else(|| {
-                ctx.err(
-                    "pockets",
-                    format!(
-                        "no pocket is named \"{n}\"; pockets: {}",
-                        pockets
-                            .iter()
-                            .map(|p| format!("\"{}\"", p.name))
-                            .collect::<Vec<_>>()
-                            .join(", ")
-                    ),
-                )
-            })
-        };
-        let (a, b) = (find(names[0])?, find(names[1])?);
-        if a == b {
-            return Err(ctx.err("pockets", "the two pockets must differ"));
-        }
-        if !pockets[a].is_electron_like() {
-            return Err(ctx.err(
-                "pockets",
-                format!(
-                    "the first pocket must be electron-like, but \"{}\" is hole-like{}",
-                    names[0],
-                    if pockets[b].is_electron_like() {
-                        format!(" (swap them: [\"{}\", \"{}\"])", names[1], names[0])
-                    } else {
-                        String::new()
-                    }
-                ),
-            ));
-        }
-        if pockets[b].is_electron_like() {
-            return Err(ctx.err(
-                "pockets",
-                format!(
-                    "the second pocket must be hole-like, but \"{}\" is electron-like",
-                    names[1]
-                ),
-            ));
-        }
-        let label = name
-            .clone()
-            .unwrap_or_else(|| format!("{}-{}", names[0], names[1]));
-        if name.is_none() {
-            ctx.entry = format!("channel {label}");
-        }
-        let cutoff = positive(
-            &ctx,
-            "cutoff",
-            required(&ctx, t, "cutoff", "the shell half-width Lambda in meV")?,
-            "meV",
-            1e4,
-        )?;
-        let spin_matrix = match t.get("spin_matrix") {
-            None => SpinMatrix::Identity,
-            Some(v) => match v {
-                Value::String(s) if s == "1" => SpinMatrix::Identity,
-                Value::Integer(1) => SpinMatrix::Identity,
-                Value::String(s) if s == "x" => SpinMatrix::X,
-                Value::String(s) if s == "y" => SpinMatrix::Y,
-                Value::String(s) if s == "z" => SpinMatrix::Z,
-                other => {
-                    return Err(ctx.err(
-                        "spin_matrix",
-                        format!("`{other}` is not allowed; expected \"1\", \"x\", \"y\" or \"z\""),
-                    ))
-                }
-            },
-        };
-        let overlap = match t.get("overlap") {
-            None => 1.0,
-            Some(v) => {
-                let x = number(&ctx, "overlap", v, "an orbital overlap factor in [0, 10]")?;
-                if !(0.0..=10.0).contains(&x) {
-                    return Err(
-                        ctx.err("overlap", format!("{x} is out of range: expected [0, 10]"))
-                    );
-                }
-                x
-            }
-        };
-        let coupling_input = match (t.get("lambda"), t.get("g")) {
-            (Some(_), Some(_)) => return Err(ctx.whole("give either `lambda` or `g`, not both")),
-            (None, None) => {
-                return Err(ctx.err(
-                    "lambda",
-                    "missing; give the dimensionless coupling `lambda` (0 < lambda <= 10) or `g` in meV nm^2",
-                ))
-            }
-            (Some(v), None) => CouplingInput::Lambda(positive(&ctx, "lambda", v, "(dimensionless)", 10.0)?),
-            (None, Some(v)) => CouplingInput::G(positive(&ctx, "g", v, "meV nm^2", 1e9)?),
-        };
-        let (pa, pb) = (&pockets[a], &pockets[b]);
-        let form = form_factor(pa, pb, spin_matrix);
-        // Shell checks at q = 0.
-        let shell =
-            Shell::new(pa, pb, form, cutoff, [0.0, 0.0]).map_err(|e| ctx.err("cutoff", e))?;
-        if shell.xi_centre > -cutoff {
-            warnings.push(format!(
-                "channel {label}: the shell |xi| < {cutoff} meV reaches past the band bottom (xi = {:.3} meV at the pockets' centres); the result depends on the band edges",
-                shell.xi_centre
-            ));
-        }
-        let line = nesting_line(&shell, &Accuracy::default())
-            .map_err(|e| ctx.whole(format!("cannot compute the pair density of states: {e}")))?;
-        let nu = line.nu.value;
-        let pinned_g = pinned.and_then(|p| p.0.get(i).copied()).filter(|_| {
-            !unpinned
-                .iter()
-                .any(|u| u == &label || Some(u) == name.as_ref())
-        });
-        let g = match (pinned_g, coupling_input) {
-            (Some(g), _) => g,
-            (None, CouplingInput::G(g)) => g,
-            (None, CouplingInput::Lambda(l)) => {
-                if nu <= 1e-12 * line.nu_unweighted {
-                    return Err(ctx.err(
-                        "lambda",
-                        "the pair density of states of this channel vanishes (its form factor is zero on the nesting line), so lambda cannot be converted: give `g` in meV nm^2 instead",
-                    ));
-                }
-                l / nu
-            }
-        };
-        if line.mismatch.abs() > cutoff {
-            warnings.push(format!(
-                "channel {label}: the mismatch |h| = {:.4} meV exceeds the cutoff {cutoff} meV: the pockets are far from nested and no instability is expected",
-                line.mismatch.abs()
-            ));
-        }
-        if g * nu > STRONG_LAMBDA {
-            warnings.push(format!(
-                "channel {label}: lambda = g nu = {:.3} > {STRONG_LAMBDA}: strong coupling, where mean-field theory is doubtful",
-                g * nu
-            ));
-        }
-        channels.push(Channel {
-            name,
-            label,
-            a,
-            b,
-            g,
-            coupling_input,
-            cutoff,
-            spin_matrix,
-            overlap,
-            spin_channels: spin_channels(pa, pb),
-            form,
-            nu,
-            mismatch: line.mismatch,
-            mismatch_range: [line.mismatch_min, line.mismatch_max],
-        });
+        channels.push(parse_channel(origin, i, v, &pockets)?);
+        pins.push(pinned.and_then(|p| p.0.get(i).copied()));
     }
-    Ok(Model {
-        pockets,
-        channels,
-        surface,
-        warnings,
+    Model::new_pinned(pockets, channels, surface, &pins)
+        .map_err(|e| InputError::new(format!("{origin}: {e}")))
+}
+
+/// One `[[channel]]` entry as a spec.
+fn parse_channel(
+    origin: &str,
+    i: usize,
+    v: &Value,
+    pockets: &[PocketSpec],
+) -> Result<ChannelSpec, InputError> {
+    let (mut ctx, t) = entry_table(origin, "channel", i, v)?;
+    let name = t
+        .get("name")
+        .map(|v| string(&ctx, "name", v, "a label").map(str::to_string))
+        .transpose()?;
+    if let Some(n) = &name {
+        if n.trim().is_empty() || n.contains(['.', '=', '[', ']']) {
+            return Err(ctx.err("name", "must be non-empty and contain none of . = [ ]"));
+        }
+        ctx.entry = format!("channel \"{n}\"");
+    }
+    check_keys(&ctx, t, CHANNEL_KEYS)?;
+    let (pair, names) = parse_channel_pockets(&ctx, t, pockets)?;
+    let label = name
+        .clone()
+        .unwrap_or_else(|| format!("{}-{}", names[0], names[1]));
+    if name.is_none() {
+        ctx.entry = format!("channel {label}");
+    }
+    let cutoff = required_positive(
+        &ctx,
+        t,
+        ("cutoff", "the shell half-width Lambda in meV"),
+        "meV",
+        1e4,
+    )?;
+    let spin_matrix = parse_spin_matrix(&ctx, t)?;
+    let overlap = match t.get("overlap") {
+        None => 1.0,
+        Some(v) => number(&ctx, "overlap", v, "an orbital overlap factor in [0, 10]")?,
+    };
+    let coupling = parse_coupling(&ctx, t)?;
+    Ok(ChannelSpec {
+        name,
+        pockets: pair,
+        coupling,
+        cutoff,
+        spin_matrix,
+        overlap,
     })
+}
+
+/// The two pocket names of a channel, resolved to indices.
+fn parse_channel_pockets<'t>(
+    ctx: &Ctx,
+    t: &'t Table,
+    pockets: &[PocketSpec],
+) -> Result<([usize; 2], [&'t str; 2]), InputError> {
+    let names = match required(
+        ctx,
+        t,
+        "pockets",
+        "[\"electron-like\", \"hole-like\"] pocket names",
+    )? {
+        Value::Array(a) if a.len() == 2 => [
+            string(ctx, "pockets", &a[0], "pocket names")?,
+            string(ctx, "pockets", &a[1], "pocket names")?,
+        ],
+        _ => {
+            return Err(ctx.err(
+                "pockets",
+                "expected two pocket names, electron-like first: [\"A\", \"B\"]",
+            ))
+        }
+    };
+    let find = |n: &str| -> Result<usize, InputError> {
+        pockets.iter().position(|p| p.name == n).ok_or_else(|| {
+            ctx.err(
+                "pockets",
+                format!(
+                    "no pocket is named \"{n}\"; pockets: {}",
+                    pockets
+                        .iter()
+                        .map(|p| format!("\"{}\"", p.name))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            )
+        })
+    };
+    Ok(([find(names[0])?, find(names[1])?], names))
+}
+
+fn parse_spin_matrix(ctx: &Ctx, t: &Table) -> Result<SpinMatrix, InputError> {
+    Ok(match t.get("spin_matrix") {
+        None => SpinMatrix::Identity,
+        Some(v) => match v {
+            Value::String(s) if s == "1" => SpinMatrix::Identity,
+            Value::Integer(1) => SpinMatrix::Identity,
+            Value::String(s) if s == "x" => SpinMatrix::X,
+            Value::String(s) if s == "y" => SpinMatrix::Y,
+            Value::String(s) if s == "z" => SpinMatrix::Z,
+            other => {
+                return Err(ctx.err(
+                    "spin_matrix",
+                    format!("`{other}` is not allowed; expected \"1\", \"x\", \"y\" or \"z\""),
+                ))
+            }
+        },
+    })
+}
+
+fn parse_coupling(ctx: &Ctx, t: &Table) -> Result<CouplingInput, InputError> {
+    match (t.get("lambda"), t.get("g")) {
+        (Some(_), Some(_)) => Err(ctx.whole("give either `lambda` or `g`, not both")),
+        (None, None) => Err(ctx.err(
+            "lambda",
+            "missing; give the dimensionless coupling `lambda` (0 < lambda <= 10) or `g` in meV nm^2",
+        )),
+        (Some(v), None) => Ok(CouplingInput::Lambda(positive(ctx, "lambda", v, "(dimensionless)", 10.0)?)),
+        (None, Some(v)) => Ok(CouplingInput::G(positive(ctx, "g", v, "meV nm^2", 1e9)?)),
+    }
 }

@@ -122,9 +122,10 @@ pub fn gap_function(
 /// with the small-xi limit (2/3) W^2 f'''(h) / 4. Units meV^-3 nm^-2. Needs T > 0.
 pub fn quartic_loop(shell: &Shell, t: f64, acc: &Accuracy) -> Result<Estimate, NumericalError> {
     if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
-        return Err(NumericalError::Invalid(format!(
-            "the quartic coefficient needs T > 0 (got {t} meV)"
-        )));
+        return Err(NumericalError::NonPositiveTemperature {
+            what: "the quartic coefficient".into(),
+            t,
+        });
     }
     let fp = |e: f64| {
         let f = fermi(e, t);

@@ -578,7 +578,7 @@ cutoff = 5.0
             .unwrap()
             .build(None)
             .unwrap();
-        let shell = Shell::for_channel(&m, &m.channels[0], [0.0058, 0.0]).unwrap();
+        let shell = Shell::for_channel(&m, &m.channels()[0], [0.0058, 0.0]).unwrap();
         let t = 5.2e-4;
         let acc = Accuracy {
             rtol: 1e-10,

@@ -26,14 +26,14 @@ pub fn omega_uniform_channels(
     acc: &Accuracy,
 ) -> Result<Estimate, NumericalError> {
     if channels.len() != deltas.len() || channels.is_empty() {
-        return Err(NumericalError::Invalid(
+        return Err(NumericalError::BadArgument(
             "one gap per channel is needed".into(),
         ));
     }
-    let chans: Vec<_> = channels.iter().map(|&i| &model.channels[i]).collect();
-    let ns = chans[0].spin_channels;
-    if chans.iter().any(|c| c.spin_channels != ns) {
-        return Err(NumericalError::Invalid(
+    let chans: Vec<_> = channels.iter().map(|&i| &model.channels()[i]).collect();
+    let ns = chans[0].spin_channels();
+    if chans.iter().any(|c| c.spin_channels() != ns) {
+        return Err(NumericalError::Unsupported(
             "channels with different numbers of spin channels cannot share one mean field here"
                 .into(),
         ));
@@ -50,7 +50,7 @@ pub fn omega_uniform_channels(
         shells: &shells,
         deltas,
         t,
-        width: t.max(1e-6 * chans.iter().map(|c| c.cutoff).fold(0.0, f64::max)),
+        width: t.max(1e-6 * chans.iter().map(|c| c.cutoff()).fold(0.0, f64::max)),
         rule: PanelRule::new(acc.order),
         acc,
     };
@@ -85,11 +85,11 @@ pub fn omega_uniform_channels(
         let scale = chans
             .iter()
             .zip(deltas)
-            .map(|(c, d)| c.nu * d * d)
+            .map(|(c, d)| c.nu() * d * d)
             .fold(0.0, f64::max)
             .max(1e-300);
         if change <= acc.rtol * value.abs().max(1e-3 * scale) {
-            let quad: f64 = chans.iter().zip(deltas).map(|(c, d)| d * d / c.g).sum();
+            let quad: f64 = chans.iter().zip(deltas).map(|(c, d)| d * d / c.g()).sum();
             return Ok(Estimate {
                 value: quad + value,
                 error: change,
@@ -129,8 +129,8 @@ impl CoupledRays<'_> {
         all.clear();
         let mut u = [1.0, 0.0];
         for ((c, sh), &d) in self.chans.iter().zip(self.shells).zip(self.deltas) {
-            let extra = if c.mismatch.abs() > d {
-                let x = (c.mismatch * c.mismatch - d * d).sqrt();
+            let extra = if c.mismatch().abs() > d {
+                let x = (c.mismatch() * c.mismatch() - d * d).sqrt();
                 vec![(x, width), (-x, width)]
             } else {
                 vec![]
@@ -166,19 +166,19 @@ impl CoupledRays<'_> {
         h.fill(Complex64::new(0.0, 0.0));
         let mut normal = 0.0;
         for (i, &p) in self.pockets.iter().enumerate() {
-            let e = model.pockets[p].energy(k);
+            let e = model.pockets()[p].energy(k);
             h[(i, i)] = Complex64::new(e, 0.0);
             normal += phi(e, t);
         }
         let mut coupled = false;
         for (ci, c) in self.chans.iter().enumerate() {
-            let (pa, pb) = (&model.pockets[c.a], &model.pockets[c.b]);
+            let (pa, pb) = (&model.pockets()[c.a()], &model.pockets()[c.b()]);
             let xi = 0.5 * (pa.energy(k) - pb.energy(k));
-            if xi.abs() >= c.cutoff || self.deltas[ci] == 0.0 {
+            if xi.abs() >= c.cutoff() || self.deltas[ci] == 0.0 {
                 continue;
             }
-            let m = band_matrix_element(pa, pb, c.spin_matrix, k, k);
-            let (ia, ib) = (idx(c.a), idx(c.b));
+            let m = band_matrix_element(pa, pb, c.spin_matrix(), k, k);
+            let (ia, ib) = (idx(c.a()), idx(c.b()));
             h[(ia, ib)] += m * self.deltas[ci];
             h[(ib, ia)] += (m * self.deltas[ci]).conj();
             coupled = true;
@@ -196,7 +196,7 @@ impl CoupledRays<'_> {
 fn involved_pockets(chans: &[&Channel]) -> Vec<usize> {
     let mut pockets: Vec<usize> = Vec::new();
     for c in chans {
-        for p in [c.a, c.b] {
+        for p in [c.a(), c.b()] {
             if !pockets.contains(&p) {
                 pockets.push(p);
             }

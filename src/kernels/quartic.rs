@@ -143,13 +143,13 @@ pub fn quadruple_loop(
     acc: &Accuracy,
 ) -> Result<LoopValue, NumericalError> {
     check_loop(&q, t)?;
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
     let lp = LoopRays {
         a,
         b,
         ch,
-        shell: Shell::new(a, b, ch.form, ch.cutoff, q[0])?,
-        lambda: ch.cutoff,
+        shell: Shell::new(a, b, ch.form(), ch.cutoff(), q[0])?,
+        lambda: ch.cutoff(),
         q1: q[0],
         s2: [q[0][0] - q[1][0], q[0][1] - q[1][1]],
         q4: q[3],
@@ -157,7 +157,7 @@ pub fn quadruple_loop(
         width: t * acc.feature_width,
         rule: PanelRule::new(acc.order),
         helical: matches!(
-            (a.spin, b.spin),
+            (a.spin(), b.spin()),
             (Spin::Helical { .. }, Spin::Helical { .. })
         ),
         acc,
@@ -191,7 +191,7 @@ pub fn quadruple_loop(
         value = new;
         // Absolute floor: a loop that cancels to nothing is judged against the plane-wave scale
         // nu / T^2.
-        let floor = 1e-9 * ch.nu / (t * t);
+        let floor = 1e-9 * ch.nu() / (t * t);
         if change <= rtol * value.norm() || change <= floor {
             return Ok(LoopValue {
                 value,
@@ -206,9 +206,10 @@ pub fn quadruple_loop(
 /// to 1e-9 of the largest.
 fn check_loop(q: &[[f64; 2]; 4], t: f64) -> Result<(), NumericalError> {
     if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
-        return Err(NumericalError::Invalid(format!(
-            "the quartic coefficient needs T > 0 (got {t} meV)"
-        )));
+        return Err(NumericalError::NonPositiveTemperature {
+            what: "the quartic coefficient".into(),
+            t,
+        });
     }
     let scale = q
         .iter()
@@ -220,7 +221,7 @@ fn check_loop(q: &[[f64; 2]; 4], t: f64) -> Result<(), NumericalError> {
         q[0][1] - q[1][1] + q[2][1] - q[3][1],
     ];
     if miss[0].hypot(miss[1]) > 1e-9 * scale {
-        return Err(NumericalError::Invalid(
+        return Err(NumericalError::BadArgument(
             "the wavevectors of a loop must satisfy q1 - q2 + q3 - q4 = 0".into(),
         ));
     }
@@ -376,7 +377,7 @@ impl LoopRays<'_> {
         }
         let mut v = Complex64::new(0.5 * fermi_divided_difference(&e, self.t), 0.0);
         if self.helical {
-            let m = |pa, pb| band_matrix_element(a, b, self.ch.spin_matrix, pa, pb);
+            let m = |pa, pb| band_matrix_element(a, b, self.ch.spin_matrix(), pa, pb);
             v *= m(ka, k) * m(ka, kb2).conj() * m(ka4, kb2) * m(ka4, k).conj();
         }
         Some(v)
@@ -396,11 +397,11 @@ pub fn structure_loops(
 ) -> Result<Vec<([usize; 4], LoopValue)>, NumericalError> {
     use rayon::prelude::*;
     let quads = structure.quadruples();
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
     let isotropic = a.is_isotropic()
         && b.is_isotropic()
-        && ch.form.is_rotation_invariant()
-        && ch.form.is_mirror_symmetric();
+        && ch.form().is_rotation_invariant()
+        && ch.form().is_mirror_symmetric();
     let qs = &structure.wavevectors;
     let scale = structure.q_max().max(1e-300);
     let key = |j: &[usize; 4]| -> Vec<i64> {

@@ -92,10 +92,10 @@ impl<'m> Shell<'m> {
         q: [f64; 2],
     ) -> Result<Self, NumericalError> {
         Shell::new(
-            &model.pockets[ch.a],
-            &model.pockets[ch.b],
-            ch.form,
-            ch.cutoff,
+            &model.pockets()[ch.a()],
+            &model.pockets()[ch.b()],
+            ch.form(),
+            ch.cutoff(),
             q,
         )
     }
@@ -158,7 +158,7 @@ impl<'m> Shell<'m> {
             for c in candidates {
                 let x = shell.at(c).xi();
                 if x >= -cutoff {
-                    return Err(NumericalError::Invalid(format!(
+                    return Err(NumericalError::DiracPointInShell(format!(
                         "the shell |xi| < {cutoff} meV reaches a Dirac point (xi = {x:.4} meV there at q = ({:.4}, {:.4})/nm): the cutoff must be below {:.4} meV",
                         q[0], q[1], -x
                     )));
@@ -172,10 +172,10 @@ impl<'m> Shell<'m> {
         shell.xi_centre = shell.at(shell.centre).xi();
         shell.xi_lo = shell.xi_centre.max(-cutoff);
         if shell.xi_centre >= cutoff {
-            return Err(NumericalError::Invalid(format!(
-                "the shell is empty: xi >= {:.4} meV everywhere at q = ({:.4}, {:.4})/nm",
-                shell.xi_centre, q[0], q[1]
-            )));
+            return Err(NumericalError::EmptyShell {
+                xi_centre: shell.xi_centre,
+                q,
+            });
         }
         let circular = a.is_isotropic() && b.is_isotropic();
         shell.isotropic = circular && form.is_rotation_invariant();
@@ -272,7 +272,7 @@ impl<'m> Shell<'m> {
     /// field(r) = c0 + c1 r + c2 r^2 along u, exactly, where the field is quadratic (a parabolic
     /// band, or xi between two parabolic bands).
     fn quadratic_along(&self, field: Field, u: [f64; 2]) -> Option<[f64; 3]> {
-        let curvature = |p: &Pocket| match p.dispersion {
+        let curvature = |p: &Pocket| match p.dispersion() {
             crate::model::Dispersion::Parabolic { sign, .. } => Some(sign * quad_form(p, u)),
             _ => None,
         };
@@ -439,11 +439,11 @@ pub struct Ray {
 
 /// The lab-frame tensor T of |eps - E0| = k.T k for a parabolic pocket.
 fn quadratic_tensor(p: &Pocket) -> [[f64; 2]; 2] {
-    let c = match p.dispersion {
+    let c = match p.dispersion() {
         crate::model::Dispersion::Parabolic { c, .. } => c,
         _ => [0.0, 0.0],
     };
-    let (co, si) = (p.angle.cos(), p.angle.sin());
+    let (co, si) = (p.angle().cos(), p.angle().sin());
     // R diag(c) R^T
     [
         [c[0] * co * co + c[1] * si * si, (c[0] - c[1]) * co * si],

@@ -52,9 +52,10 @@ fn pair_kernel_inv(xi: f64, h: f64, t: f64, inv_t: f64) -> f64 {
 /// chi(q, T) of the shell (its q is fixed at construction), T = k_B T in meV.
 pub fn susceptibility(shell: &Shell, t: f64, acc: &Accuracy) -> Result<Estimate, NumericalError> {
     if t.partial_cmp(&0.0) != Some(std::cmp::Ordering::Greater) {
-        return Err(NumericalError::Invalid(format!(
-            "the susceptibility needs T > 0 (got {t} meV)"
-        )));
+        return Err(NumericalError::NonPositiveTemperature {
+            what: "the susceptibility".into(),
+            t,
+        });
     }
     let inv_t = 1.0 / t;
     shell_integral_graded(shell, t, &[], acc, |_, p| {

@@ -1,13 +1,23 @@
 //! The validated, frozen model: pockets, their spin structure, pairing channels and the surface
-//! lattice. Built once by [`crate::config`]; kernels and solvers only read it.
+//! lattice. Built by [`Model::new`] (from specs, in code or by [`crate::config`]) and varied by
+//! [`Model::with`]; kernels and solvers only read it.
 //!
 //! Conventions (physics.md sections 1-2): energies in meV from the common chemical potential,
 //! momenta in 1/nm measured from each pocket's centre, hbar v in meV nm, masses in electron masses.
 
+mod build;
+#[cfg(test)]
+mod build_tests;
+mod params;
 pub mod pocket;
+mod spec;
 pub mod structure;
 
+pub use build::ChannelSpec;
+pub use params::{Param, CHANNEL_KEYS, POCKET_KEYS, SURFACE_KEYS};
 pub use pocket::{Dispersion, Pocket, PocketKind, Spin};
+pub(crate) use spec::check_positive;
+pub use spec::{DispersionSpec, PocketSpec, SpinSpec};
 
 use num_complex::Complex64;
 
@@ -155,44 +165,93 @@ pub enum CouplingInput {
     G(f64),
 }
 
-/// A pairing channel between an electron-like pocket `a` and a hole-like pocket `b`.
+/// A pairing channel between an electron-like pocket `a` and a hole-like pocket `b`, with its
+/// derived quantities. Read through the accessors; built only by [`Model::new`].
 #[derive(Debug, Clone)]
 pub struct Channel {
-    /// Optional user name (used by `--set NAME.key=value`).
-    pub name: Option<String>,
-    /// Display label: the name, or "A-B".
-    pub label: String,
-    /// Index of the electron-like pocket.
-    pub a: usize,
-    /// Index of the hole-like pocket.
-    pub b: usize,
-    /// Contact coupling g > 0 in meV nm^2 (attractive), per spin channel.
-    pub g: f64,
-    /// What the user gave.
-    pub coupling_input: CouplingInput,
-    /// Shell half-width Lambda in meV: |xi_k| < Lambda.
-    pub cutoff: f64,
-    pub spin_matrix: SpinMatrix,
-    /// Orbital overlap factor m_ab for the density modulation (default 1).
-    pub overlap: f64,
-    /// Number of equivalent spin channels: 2 for two degenerate pockets, else 1.
-    pub spin_channels: f64,
-    pub form: FormFactor,
-    /// Pair density of states nu_ab per spin channel at q = 0, 1/(meV nm^2).
-    pub nu: f64,
-    /// Mismatch h on the nesting line (meV), with its minimum and maximum along the line.
-    pub mismatch: f64,
-    pub mismatch_range: [f64; 2],
+    name: Option<String>,
+    label: String,
+    a: usize,
+    b: usize,
+    g: f64,
+    coupling_input: CouplingInput,
+    cutoff: f64,
+    spin_matrix: SpinMatrix,
+    overlap: f64,
+    spin_channels: f64,
+    form: FormFactor,
+    nu: f64,
+    mismatch: f64,
+    mismatch_range: [f64; 2],
 }
 
 impl Channel {
+    /// Optional user name (the NAME of `NAME.key` parameter paths).
+    pub fn name(&self) -> Option<&str> {
+        self.name.as_deref()
+    }
+    /// Display label: the name, or "A-B".
+    pub fn label(&self) -> &str {
+        &self.label
+    }
+    /// Index of the electron-like pocket.
+    pub fn a(&self) -> usize {
+        self.a
+    }
+    /// Index of the hole-like pocket.
+    pub fn b(&self) -> usize {
+        self.b
+    }
+    /// Contact coupling g > 0 in meV nm^2 (attractive), per spin channel.
+    pub fn g(&self) -> f64 {
+        self.g
+    }
+    /// How the coupling was given.
+    pub fn coupling_input(&self) -> CouplingInput {
+        self.coupling_input
+    }
+    /// Shell half-width Lambda in meV: |xi_k| < Lambda.
+    pub fn cutoff(&self) -> f64 {
+        self.cutoff
+    }
+    /// Spin matrix M of the order parameter.
+    pub fn spin_matrix(&self) -> SpinMatrix {
+        self.spin_matrix
+    }
+    /// Orbital overlap factor m_ab for the density modulation (default 1).
+    pub fn overlap(&self) -> f64 {
+        self.overlap
+    }
+    /// Number of equivalent spin channels: 2 for two degenerate pockets, else 1.
+    pub fn spin_channels(&self) -> f64 {
+        self.spin_channels
+    }
+    /// Band form factor W of the pair.
+    pub fn form(&self) -> FormFactor {
+        self.form
+    }
+    /// Pair density of states nu_ab per spin channel at q = 0, 1/(meV nm^2).
+    pub fn nu(&self) -> f64 {
+        self.nu
+    }
+    /// Mismatch h on the nesting line (meV).
+    pub fn mismatch(&self) -> f64 {
+        self.mismatch
+    }
+    /// Minimum and maximum of the mismatch along the nesting line (meV).
+    pub fn mismatch_range(&self) -> [f64; 2] {
+        self.mismatch_range
+    }
     /// Dimensionless coupling lambda = g nu_ab.
     pub fn lambda(&self) -> f64 {
         self.g * self.nu
     }
     /// Nesting vector K_a - K_b (1/nm), given the model's pockets.
     pub fn nesting_vector(&self, model: &Model) -> [f64; 2] {
-        let (ka, kb) = (model.pockets[self.a].center, model.pockets[self.b].center);
+        let (ka, kb) = (
+            model.pockets[self.a].center(),
+            model.pockets[self.b].center(),
+        );
         [ka[0] - kb[0], ka[1] - kb[1]]
     }
 }
@@ -205,20 +264,50 @@ pub enum Lattice {
     Hexagonal { a: f64 },
 }
 
-/// The frozen model.
+/// The frozen model: built only by [`Model::new`] or [`Model::with`], so that every derived
+/// quantity matches the specs it came from.
 #[derive(Debug, Clone)]
 pub struct Model {
-    pub pockets: Vec<Pocket>,
-    pub channels: Vec<Channel>,
-    pub surface: Option<Lattice>,
-    /// Legal but questionable input, to be shown to the user.
-    pub warnings: Vec<String>,
+    pocket_specs: Vec<PocketSpec>,
+    channel_specs: Vec<ChannelSpec>,
+    pockets: Vec<Pocket>,
+    channels: Vec<Channel>,
+    surface: Option<Lattice>,
+    warnings: Vec<String>,
+    /// Common shift of every offset from the specs, meV.
+    shift: f64,
 }
 
 impl Model {
+    /// The pockets, in configuration order.
+    pub fn pockets(&self) -> &[Pocket] {
+        &self.pockets
+    }
+    /// The pairing channels, in configuration order.
+    pub fn channels(&self) -> &[Channel] {
+        &self.channels
+    }
+    /// The surface lattice, if given.
+    pub fn surface(&self) -> Option<Lattice> {
+        self.surface
+    }
+    /// Legal but questionable input, to be shown to the user.
+    pub fn warnings(&self) -> &[String] {
+        &self.warnings
+    }
+    /// The pocket specs the model was built from.
+    pub fn pocket_specs(&self) -> &[PocketSpec] {
+        &self.pocket_specs
+    }
+    /// The channel specs the model was built from.
+    pub fn channel_specs(&self) -> &[ChannelSpec] {
+        &self.channel_specs
+    }
+    /// The electron-like pocket of a channel.
     pub fn pocket_a(&self, c: &Channel) -> &Pocket {
         &self.pockets[c.a]
     }
+    /// The hole-like pocket of a channel.
     pub fn pocket_b(&self, c: &Channel) -> &Pocket {
         &self.pockets[c.b]
     }
@@ -226,7 +315,7 @@ impl Model {
 
 /// Form factor of the pair (a, b) for spin matrix `m` (physics.md section 2).
 pub fn form_factor(a: &Pocket, b: &Pocket, m: SpinMatrix) -> FormFactor {
-    match (a.spin, b.spin) {
+    match (a.spin(), b.spin()) {
         (
             Spin::Helical {
                 winding: wa,
@@ -250,7 +339,7 @@ pub fn form_factor(a: &Pocket, b: &Pocket, m: SpinMatrix) -> FormFactor {
 
 /// Number of equivalent spin channels: 2 when both pockets are spin-degenerate.
 pub fn spin_channels(a: &Pocket, b: &Pocket) -> f64 {
-    if matches!(a.spin, Spin::Degenerate) && matches!(b.spin, Spin::Degenerate) {
+    if matches!(a.spin(), Spin::Degenerate) && matches!(b.spin(), Spin::Degenerate) {
         2.0
     } else {
         1.0
@@ -267,7 +356,7 @@ pub fn band_matrix_element(
     pa: [f64; 2],
     pb: [f64; 2],
 ) -> Complex64 {
-    match (a.spin, b.spin) {
+    match (a.spin(), b.spin()) {
         (
             Spin::Helical {
                 winding: wa,

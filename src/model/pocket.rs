@@ -39,21 +39,22 @@ pub enum Spin {
     Helical { winding: i32, phase: f64 },
 }
 
+/// One pocket in internal units; read through the accessors.
 #[derive(Debug, Clone)]
 pub struct Pocket {
-    pub name: String,
-    pub kind: PocketKind,
-    /// Centre K in the zone, 1/nm.
-    pub center: [f64; 2],
-    pub dispersion: Dispersion,
-    /// Rotation of the pocket's first axis from the lab x axis, radians.
-    pub angle: f64,
+    name: String,
+    kind: PocketKind,
+    center: [f64; 2],
+    dispersion: Dispersion,
+    angle: f64,
     cos: f64,
     sin: f64,
-    pub spin: Spin,
+    spin: Spin,
 }
 
 impl Pocket {
+    /// A pocket from its values in internal units (angle in radians). Unchecked: a model
+    /// validates its pockets through [`crate::model::PocketSpec`].
     pub fn new(
         name: String,
         kind: PocketKind,
@@ -74,20 +75,36 @@ impl Pocket {
         }
     }
 
+    /// Unique label.
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+    /// Electron, hole or Dirac.
+    pub fn kind(&self) -> PocketKind {
+        self.kind
+    }
+    /// Centre K in the zone, 1/nm.
+    pub fn center(&self) -> [f64; 2] {
+        self.center
+    }
+    /// Dispersion in the pocket's own axes.
+    pub fn dispersion(&self) -> Dispersion {
+        self.dispersion
+    }
+    /// Rotation of the pocket's first axis from the lab x axis, radians.
+    pub fn angle(&self) -> f64 {
+        self.angle
+    }
+    /// Spin structure.
+    pub fn spin(&self) -> Spin {
+        self.spin
+    }
+
     /// The offset E0 or ED (meV).
     pub fn offset(&self) -> f64 {
         match self.dispersion {
             Dispersion::Parabolic { offset, .. } | Dispersion::Dirac { offset, .. } => offset,
         }
-    }
-
-    /// A copy with the offset shifted by `d` meV (a shift of the common chemical potential by -d).
-    pub fn with_offset_shift(&self, d: f64) -> Pocket {
-        let mut p = self.clone();
-        match &mut p.dispersion {
-            Dispersion::Parabolic { offset, .. } | Dispersion::Dirac { offset, .. } => *offset += d,
-        }
-        p
     }
 
     /// +1 for an electron-like pocket, -1 for a hole-like one.

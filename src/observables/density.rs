@@ -29,13 +29,13 @@ pub struct DensityWave {
 /// 2 n_s |m_ab Delta_j| / g (charge for M = 1, spin density for M = sigma_i), and the intraband
 /// waves at q_i - q_j with amplitude 2 |n(Q)| (one of each +-Q pair).
 pub fn density_waves(model: &Model, ch: &Channel, state: &StateCandidate) -> Vec<DensityWave> {
-    let kind = match ch.spin_matrix {
+    let kind = match ch.spin_matrix() {
         crate::model::SpinMatrix::Identity => "charge",
         crate::model::SpinMatrix::X => "spin x",
         crate::model::SpinMatrix::Y => "spin y",
         crate::model::SpinMatrix::Z => "spin z",
     };
-    let fold = |p: [f64; 2]| match &model.surface {
+    let fold = |p: [f64; 2]| match &model.surface() {
         Some(l) => (l.fold(p), true),
         None => (p, false),
     };
@@ -46,7 +46,7 @@ pub fn density_waves(model: &Model, ch: &Channel, state: &StateCandidate) -> Vec
     let k = ch.nesting_vector(model);
     let mut out = Vec::new();
     for (g, d) in &state.components {
-        let amp = 2.0 * ch.spin_channels * (ch.overlap * d.norm()) / ch.g;
+        let amp = 2.0 * ch.spin_channels() * (ch.overlap() * d.norm()) / ch.g();
         if amp <= 0.0 {
             continue;
         }

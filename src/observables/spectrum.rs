@@ -30,7 +30,7 @@ pub fn spectrum(model: &Model, ch: &Channel, sol: &Solution) -> Result<Spectrum,
         let th = 2.0 * std::f64::consts::PI * j as f64 / n_rays as f64;
         let u = [th.cos(), th.sin()];
         let mut ray_min = f64::INFINITY;
-        let span = (sol.delta + ch.mismatch.abs()).min(shell.cutoff);
+        let span = (sol.delta + ch.mismatch().abs()).min(shell.cutoff);
         let samples = (0..=64)
             .map(|i| shell.xi_lo + (shell.cutoff - shell.xi_lo) * i as f64 / 64.0)
             .chain((-32..=32).map(|i| span * i as f64 / 32.0))

@@ -31,15 +31,15 @@ pub struct PatternReport<'a> {
 }
 
 fn channel<'a>(r: &PatternReport<'a>) -> &'a Channel {
-    &r.model.channels[r.channel]
+    &r.model.channels()[r.channel]
 }
 
 /// The JSON report.
 pub fn pattern_json(r: &PatternReport) -> Value {
     let ch = channel(r);
-    let ns = ch.spin_channels;
+    let ns = ch.spin_channels();
     let mut v = header(r.src, "pattern");
-    v["channel"] = json!(ch.label);
+    v["channel"] = json!(ch.label());
     v["line_point"] = match r.line {
         Some(l) => json!({
             "path": l.path,
@@ -117,7 +117,7 @@ pub fn pattern_json(r: &PatternReport) -> Value {
         None => Value::Null,
     };
     v["field_of_view_nm"] = json!(r.fov);
-    v["warnings"] = json!(r.model.warnings);
+    v["warnings"] = json!(r.model.warnings());
     v
 }
 
@@ -126,7 +126,7 @@ pub fn pattern_json(r: &PatternReport) -> Value {
 /// gap is small (for holes the unpaired density is minus the electron density).
 fn unpaired(r: &PatternReport) -> Option<(f64, &'static str, bool)> {
     let c = r.unpaired_correlation?;
-    let holes = channel(r).mismatch > 0.0;
+    let holes = channel(r).mismatch() > 0.0;
     let unpaired_corr = if holes { -c } else { c };
     Some((
         c,
@@ -147,7 +147,7 @@ pub fn pattern_text(r: &PatternReport) -> String {
         Some(l) => {
             s += &format!(
                 "channel {}: modulated instability line at T = {:.4} K reached at {} = {:.6} (given: {:.6}); mismatch h = {:.5} meV, |q*| = {:.5}/nm\n",
-                ch.label,
+                ch.label(),
                 mev_to_kelvin(l.t),
                 l.path,
                 l.value,
@@ -171,7 +171,7 @@ pub fn pattern_text(r: &PatternReport) -> String {
         None => {
             s += &format!(
                 "channel {}: the modulated instability line could not be reached: {}\n",
-                ch.label,
+                ch.label(),
                 r.line_failure.as_deref().unwrap_or("unknown reason")
             );
         }
@@ -353,7 +353,7 @@ pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<Pa
     let plot = DensityPlot {
         title: format!(
             "{kind} density modulation, channel {} ({state}), T = {t:.3} K",
-            ch.label
+            ch.label()
         ),
         fov_nm: r.fov,
         n,

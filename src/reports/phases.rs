@@ -41,9 +41,9 @@ pub fn write_phases(
     out: &Path,
     stem: &str,
 ) -> Result<Vec<PathBuf>, String> {
-    let ch = &m.channels[d.channel];
+    let ch = &m.channels()[d.channel];
     let path = grid.axes[0].path();
-    let ns = ch.spin_channels;
+    let ns = ch.spin_channels();
     let mut written = Vec::new();
     // CSV
     let mut w = csv::Writer::from_writer(Vec::new());
@@ -144,7 +144,7 @@ pub fn write_phases(
         .collect();
     // JSON
     let mut v = header(src, "phases");
-    v["channel"] = json!(ch.label);
+    v["channel"] = json!(ch.label());
     v["vary"] = json!({"path": path, "from": grid.axes[0].from, "to": grid.axes[0].to, "n": grid.axes[0].n, "unit": key_unit(&grid.axes[0].key)});
     v["temperatures_K"] = json!(d
         .temperatures
@@ -315,7 +315,7 @@ pub fn write_phases(
     }
     let u = key_unit(&grid.axes[0].key);
     let plot = RegionPlot {
-        title: format!("Phase diagram, channel {}", ch.label),
+        title: format!("Phase diagram, channel {}", ch.label()),
         x_label: if u.is_empty() {
             path.clone()
         } else {

@@ -70,7 +70,7 @@ pub fn write_scan(
     out: &Path,
     stem: &str,
 ) -> Result<Vec<PathBuf>, String> {
-    let labels: Vec<String> = m.channels.iter().map(|c| c.label.clone()).collect();
+    let labels: Vec<String> = m.channels().iter().map(|c| c.label().to_string()).collect();
     let mut written = Vec::new();
     // CSV
     let mut w = csv::Writer::from_writer(Vec::new());
@@ -103,9 +103,9 @@ pub fn write_scan(
                 Ok(chs) => json!({
                     "values": p.values,
                     "status": "ok",
-                    "channels": chs.iter().zip(&m.channels).map(|(r, c)| super::tables::channel_tc_json(m, c, r)).collect::<Vec<_>>(),
+                    "channels": chs.iter().zip(m.channels()).map(|(r, c)| super::tables::channel_tc_json(m, c, r)).collect::<Vec<_>>(),
                 }),
-                Err(e) => json!({"values": p.values, "status": "failed", "reason": e}),
+                Err(e) => json!({"values": p.values, "status": "failed", "reason": e.to_string()}),
             })
             .collect(),
     );
@@ -239,7 +239,7 @@ pub fn summary(m: &Model, grid: &Grid, points: &[ScanPoint]) -> String {
     let failed = points.iter().filter(|p| p.result.is_err()).count();
     let mut s = format!("{} points, {} failed\n", points.len(), failed);
     if grid.axes.len() == 1 {
-        for (c, ch) in m.channels.iter().enumerate() {
+        for (c, ch) in m.channels().iter().enumerate() {
             let mut best: Option<(f64, f64)> = None;
             for p in points {
                 if let Some(r) = p.result.as_ref().ok().and_then(|r| r.get(c)) {
@@ -249,7 +249,7 @@ pub fn summary(m: &Model, grid: &Grid, points: &[ScanPoint]) -> String {
                 }
             }
             let rows = vec![vec![
-                ch.label.clone(),
+                ch.label().to_string(),
                 best.map(|b| {
                     format!(
                         "{:.4} K at {} = {}",

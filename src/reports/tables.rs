@@ -54,18 +54,18 @@ fn pocket_json(p: &Pocket) -> Value {
     let x = [1.0, 0.0];
     let y = [0.0, 1.0];
     json!({
-        "name": p.name,
-        "kind": p.kind,
+        "name": p.name(),
+        "kind": p.kind(),
         "electron_like": p.is_electron_like(),
-        "center_per_nm": p.center,
+        "center_per_nm": p.center(),
         "offset_meV": p.offset(),
-        "angle_deg": p.angle.to_degrees(),
+        "angle_deg": p.angle().to_degrees(),
         "mass_me": p.masses(),
-        "velocity_meV_nm": match p.dispersion {
+        "velocity_meV_nm": match p.dispersion() {
             crate::model::Dispersion::Dirac { v, .. } => json!(v),
             _ => Value::Null,
         },
-        "spin": match p.spin {
+        "spin": match p.spin() {
             Spin::Degenerate => json!("degenerate"),
             Spin::Helical { winding, phase } => json!({"winding": winding, "phase_deg": phase.to_degrees()}),
         },
@@ -78,21 +78,21 @@ fn pocket_json(p: &Pocket) -> Value {
 
 fn channel_json(m: &Model, c: &Channel) -> Value {
     json!({
-        "name": c.name,
-        "label": c.label,
-        "pockets": [m.pockets[c.a].name, m.pockets[c.b].name],
-        "nu_per_meV_nm2": c.nu,
-        "g_meV_nm2": c.g,
+        "name": c.name(),
+        "label": c.label(),
+        "pockets": [m.pockets()[c.a()].name(), m.pockets()[c.b()].name()],
+        "nu_per_meV_nm2": c.nu(),
+        "g_meV_nm2": c.g(),
         "lambda": c.lambda(),
-        "coupling_given": match c.coupling_input { CouplingInput::Lambda(_) => "lambda", CouplingInput::G(_) => "g" },
-        "cutoff_meV": c.cutoff,
-        "spin_matrix": c.spin_matrix.label(),
-        "spin_channels": c.spin_channels,
-        "mismatch_meV": c.mismatch,
-        "mismatch_min_meV": c.mismatch_range[0],
-        "mismatch_max_meV": c.mismatch_range[1],
+        "coupling_given": match c.coupling_input() { CouplingInput::Lambda(_) => "lambda", CouplingInput::G(_) => "g" },
+        "cutoff_meV": c.cutoff(),
+        "spin_matrix": c.spin_matrix().label(),
+        "spin_channels": c.spin_channels(),
+        "mismatch_meV": c.mismatch(),
+        "mismatch_min_meV": c.mismatch_range()[0],
+        "mismatch_max_meV": c.mismatch_range()[1],
         "nesting_vector_per_nm": c.nesting_vector(m),
-        "overlap": c.overlap,
+        "overlap": c.overlap(),
         "tc_nested_K": nested_tc(c).map(kelvin),
     })
 }
@@ -100,9 +100,9 @@ fn channel_json(m: &Model, c: &Channel) -> Value {
 /// `nestor check --json`.
 pub fn check_json(src: &ConfigSource, m: &Model) -> Value {
     let mut v = header(src, "check");
-    v["pockets"] = Value::Array(m.pockets.iter().map(pocket_json).collect());
-    v["channels"] = Value::Array(m.channels.iter().map(|c| channel_json(m, c)).collect());
-    v["warnings"] = json!(m.warnings);
+    v["pockets"] = Value::Array(m.pockets().iter().map(pocket_json).collect());
+    v["channels"] = Value::Array(m.channels().iter().map(|c| channel_json(m, c)).collect());
+    v["warnings"] = json!(m.warnings());
     v
 }
 
@@ -151,14 +151,14 @@ pub fn check_text(m: &Model) -> String {
         "Pockets (momenta 1/nm, energies meV, hbar v meV nm, densities 1/nm^2, DOS 1/(meV nm^2))\n",
     );
     let rows: Vec<Vec<String>> = m
-        .pockets
+        .pockets()
         .iter()
         .map(|p| {
             let (x, y) = ([1.0, 0.0], [0.0, 1.0]);
             vec![
-                p.name.clone(),
-                format!("{:?}", p.kind).to_lowercase(),
-                format!("({}, {})", g4(p.center[0]), g4(p.center[1])),
+                p.name().to_string(),
+                format!("{:?}", p.kind()).to_lowercase(),
+                format!("({}, {})", g4(p.center()[0]), g4(p.center()[1])),
                 g4(p.offset()),
                 format!(
                     "{} / {}",
@@ -172,7 +172,7 @@ pub fn check_text(m: &Model) -> String {
                 ),
                 g4(p.density()),
                 g4(p.dos()),
-                match p.spin {
+                match p.spin() {
                     Spin::Degenerate => "degenerate".into(),
                     Spin::Helical { winding, phase } => {
                         format!("helical w={winding:+} phi={}", g4(phase.to_degrees()))
@@ -187,36 +187,40 @@ pub fn check_text(m: &Model) -> String {
         ],
         &rows,
     );
-    if m.channels.is_empty() {
+    if m.channels().is_empty() {
         s += "\nNo channels.\n";
         return s;
     }
     s += "\nChannels (nu per spin channel 1/(meV nm^2), g meV nm^2, cutoff and mismatch meV, Tc0 = 1.134 cutoff exp(-1/lambda) in K)\n";
     let rows: Vec<Vec<String>> = m
-        .channels
+        .channels()
         .iter()
         .map(|c| {
             let q = c.nesting_vector(m);
             vec![
-                c.label.clone(),
-                format!("{} -> {}", m.pockets[c.a].name, m.pockets[c.b].name),
-                g4(c.nu),
-                g4(c.g),
+                c.label().to_string(),
+                format!(
+                    "{} -> {}",
+                    m.pockets()[c.a()].name(),
+                    m.pockets()[c.b()].name()
+                ),
+                g4(c.nu()),
+                g4(c.g()),
                 g4(c.lambda()),
-                g4(c.cutoff),
-                c.spin_matrix.label().into(),
-                format!("{}", c.spin_channels),
-                if (c.mismatch_range[1] - c.mismatch_range[0]).abs()
-                    > 1e-9 * c.mismatch.abs().max(1.0)
+                g4(c.cutoff()),
+                c.spin_matrix().label().into(),
+                format!("{}", c.spin_channels()),
+                if (c.mismatch_range()[1] - c.mismatch_range()[0]).abs()
+                    > 1e-9 * c.mismatch().abs().max(1.0)
                 {
                     format!(
                         "{} [{}, {}]",
-                        g4(c.mismatch),
-                        g4(c.mismatch_range[0]),
-                        g4(c.mismatch_range[1])
+                        g4(c.mismatch()),
+                        g4(c.mismatch_range()[0]),
+                        g4(c.mismatch_range()[1])
                     )
                 } else {
-                    g4(c.mismatch)
+                    g4(c.mismatch())
                 },
                 format!("({}, {})", g4(q[0]), g4(q[1])),
                 nested_tc(c)
@@ -261,13 +265,13 @@ pub fn channel_tc_json(m: &Model, c: &Channel, r: &ChannelTc) -> Value {
         json!(a)
     };
     json!({
-        "label": c.label,
-        "pockets": [m.pockets[c.a].name, m.pockets[c.b].name],
+        "label": c.label(),
+        "pockets": [m.pockets()[c.a()].name(), m.pockets()[c.b()].name()],
         "method": r.method,
-        "nu_per_meV_nm2": c.nu,
-        "g_meV_nm2": c.g,
+        "nu_per_meV_nm2": c.nu(),
+        "g_meV_nm2": c.g(),
         "lambda": c.lambda(),
-        "mismatch_meV": c.mismatch,
+        "mismatch_meV": c.mismatch(),
         "tc_nested_K": r.tc_nested.map(kelvin),
         "tc_uniform_K": opt_kelvin(&r.uniform),
         "tc_uniform_error_K": kelvin(r.uniform.error),
@@ -289,29 +293,29 @@ pub fn channel_tc_json(m: &Model, c: &Channel, r: &ChannelTc) -> Value {
 pub fn tc_json(src: &ConfigSource, m: &Model, results: &[ChannelTc]) -> Value {
     let mut v = header(src, "tc");
     v["channels"] = Value::Array(
-        m.channels
+        m.channels()
             .iter()
             .zip(results)
             .map(|(c, r)| channel_tc_json(m, c, r))
             .collect(),
     );
-    v["warnings"] = json!(m.warnings);
+    v["warnings"] = json!(m.warnings());
     v
 }
 
 /// `nestor tc` as text.
 pub fn tc_text(m: &Model, results: &[ChannelTc]) -> String {
     let rows: Vec<Vec<String>> = m
-        .channels
+        .channels()
         .iter()
         .zip(results)
         .map(|(c, r)| {
             let q = r.modulated.q;
             let qn = q[0].hypot(q[1]);
             vec![
-                c.label.clone(),
+                c.label().to_string(),
                 g4(c.lambda()),
-                g4(c.g),
+                g4(c.g()),
                 r.tc_nested.map(|t| g4(kelvin(t))).unwrap_or("-".into()),
                 if r.uniform.status == TcStatus::Unstable {
                     g4(kelvin(r.uniform.tc))
@@ -349,15 +353,15 @@ pub fn tc_text(m: &Model, results: &[ChannelTc]) -> String {
         ],
         &rows,
     );
-    for (c, r) in m.channels.iter().zip(results) {
+    for (c, r) in m.channels().iter().zip(results) {
         for why in [&r.uniform.reason, &r.modulated.tc.reason]
             .into_iter()
             .flatten()
         {
-            s += &format!("{}: {}\n", c.label, why);
+            s += &format!("{}: {}\n", c.label(), why);
         }
         for n in &r.notes {
-            s += &format!("{}: {}\n", c.label, n);
+            s += &format!("{}: {}\n", c.label(), n);
         }
     }
     s += "q* is known to fewer digits than Tc (the maximum over q is flat); period = 2 pi/|q*| of the order parameter's modulation.\n";
@@ -435,7 +439,7 @@ pub fn scan_rows(points: &[ScanPoint], channel_labels: &[String]) -> Vec<Vec<Str
                         String::new(),
                         String::new(),
                         String::new(),
-                        e.clone(),
+                        e.to_string(),
                     ]);
                     rows.push(row);
                 }
@@ -461,24 +465,24 @@ pub fn ordered_json(
                 "state": s.state,
                 "delta_meV": s.delta,
                 "q_per_nm": s.q,
-                "omega_meV_per_nm2": c.spin_channels * s.omega,
-                "omega_error_meV_per_nm2": c.spin_channels * s.omega_error,
+                "omega_meV_per_nm2": c.spin_channels() * s.omega,
+                "omega_error_meV_per_nm2": c.spin_channels() * s.omega_error,
                 "stability": s.stability,
                 "quasiparticle_gap_meV": sp.gap,
                 "gapless": s.delta > 0.0 && sp.gap.is_none(),
                 "gapless_arcs_deg": sp.gapless_arcs_deg,
-                "coherence_per_nm2": s.delta / c.g,
+                "coherence_per_nm2": s.delta / c.g(),
                 "density_modulation": density_modulation(m, c, s),
             })
         })
         .collect();
     json!({
-        "label": c.label,
-        "pockets": [m.pockets[c.a].name, m.pockets[c.b].name],
-        "spin_channels": c.spin_channels,
-        "g_meV_nm2": c.g,
+        "label": c.label(),
+        "pockets": [m.pockets()[c.a()].name(), m.pockets()[c.b()].name()],
+        "spin_channels": c.spin_channels(),
+        "g_meV_nm2": c.g(),
         "lambda": c.lambda(),
-        "mismatch_meV": c.mismatch,
+        "mismatch_meV": c.mismatch(),
         "temperature_K": kelvin(st.t),
         "solutions": sols,
         "chosen": st.chosen,
@@ -509,22 +513,22 @@ pub fn ordered_text(
                 } else {
                     format!("({}, {})", g4(s.q[0]), g4(s.q[1]))
                 },
-                g4(c.spin_channels * s.omega),
+                g4(c.spin_channels() * s.omega),
                 format!("{:?}", s.stability).to_lowercase(),
                 match (s.delta > 0.0, sp.gap) {
                     (false, _) => "-".into(),
                     (true, Some(g)) => g4(g),
                     (true, None) => format!("gapless ({} arcs)", sp.gapless_arcs_deg.len()),
                 },
-                g4(s.delta / c.g),
+                g4(s.delta / c.g()),
             ]
         })
         .collect();
     let mut s = format!(
         "channel {} at T = {} K (Omega total over {} spin channel(s), relative to the normal state)\n",
-        c.label,
+        c.label(),
         g4(kelvin(st.t)),
-        c.spin_channels
+        c.spin_channels()
     );
     s += &text_table(
         &[
@@ -550,17 +554,17 @@ pub fn density_modulation(m: &Model, c: &Channel, s: &crate::solvers::ordered::S
     }
     let k = c.nesting_vector(m);
     let p = [k[0] + s.q[0], k[1] + s.q[1]];
-    let (folded, is_folded) = match &m.surface {
+    let (folded, is_folded) = match &m.surface() {
         Some(l) => (l.fold(p), true),
         None => (p, false),
     };
     let n = folded[0].hypot(folded[1]);
     json!([{
-        "kind": match c.spin_matrix { crate::model::SpinMatrix::Identity => "charge", crate::model::SpinMatrix::X => "spin x", crate::model::SpinMatrix::Y => "spin y", crate::model::SpinMatrix::Z => "spin z" },
+        "kind": match c.spin_matrix() { crate::model::SpinMatrix::Identity => "charge", crate::model::SpinMatrix::X => "spin x", crate::model::SpinMatrix::Y => "spin y", crate::model::SpinMatrix::Z => "spin z" },
         "order": 1,
         "wavevector_per_nm": folded,
         "folded_into_first_zone": is_folded,
         "period_nm": if n > 0.0 { json!(2.0 * std::f64::consts::PI / n) } else { Value::Null },
-        "amplitude_per_nm2": 2.0 * c.spin_channels * (c.overlap * s.delta).abs() / c.g,
+        "amplitude_per_nm2": 2.0 * c.spin_channels() * (c.overlap() * s.delta).abs() / c.g(),
     }])
 }

@@ -8,19 +8,19 @@
 //! Sign convention: a shift s moves every offset E0 -> E0 + s, i.e. the chemical potential by -s.
 
 use crate::error::NumericalError;
-use crate::model::{Dispersion, Model};
+use crate::model::{Dispersion, Model, Param};
 use crate::solvers::ordered::{OrderedSolver, StateKind};
 use crate::solvers::roots::brent_root;
 
-/// The model with every offset shifted by s (meV); couplings and everything else unchanged.
-pub fn shifted(model: &Model, s: f64) -> Model {
-    let mut m = model.clone();
-    m.pockets = model
-        .pockets
-        .iter()
-        .map(|p| p.with_offset_shift(s))
-        .collect();
-    m
+/// The model with every offset shifted by s (meV), g pinned; nu and the mismatch are those of
+/// the shifted pockets.
+pub fn shifted(model: &Model, s: f64) -> Result<Model, NumericalError> {
+    model
+        .with(&[(Param::OffsetShift, s)])
+        .map_err(|e| NumericalError::ShiftedModel {
+            shift: s,
+            reason: e.to_string(),
+        })
 }
 
 /// Net carrier density per nm^2 of the normal state at temperature t (meV): electrons counted
@@ -29,12 +29,12 @@ pub fn shifted(model: &Model, s: f64) -> Model {
 /// pocket included.
 pub fn normal_carriers(model: &Model, t: f64) -> f64 {
     model
-        .pockets
+        .pockets()
         .iter()
         .map(|p| {
             let sign = p.carrier_sign();
             let e0 = p.offset();
-            let n = match p.dispersion {
+            let n = match p.dispersion() {
                 Dispersion::Parabolic { c, .. } => {
                     // Constant DOS D = 1/(4 pi sqrt(cx cy)) per spin: n = D T ln(1 + e^{-+E0/T}).
                     let d = 1.0 / (4.0 * std::f64::consts::PI * (c[0] * c[1]).sqrt());
@@ -124,8 +124,8 @@ fn uniform_at(
     s: f64,
     t: f64,
 ) -> Result<(f64, Option<UniformBranch>), NumericalError> {
-    let m = shifted(model, s);
-    let ch = &m.channels[channel];
+    let m = shifted(model, s)?;
+    let ch = &m.channels()[channel];
     let n_normal = normal_carriers(&m, t);
     let st = os.solve(&m, ch, t, None)?;
     let best = st
@@ -138,27 +138,131 @@ fn uniform_at(
         return Ok((n_normal, None));
     };
     // delta N = -dOmega/dmu = dOmega/ds at fixed Delta (Delta is stationary), total over spins.
-    let ds = 1e-4 * ch.cutoff;
+    let ds = 1e-4 * ch.cutoff();
+    let (mp, mm) = (shifted(model, s + ds)?, shifted(model, s - ds)?);
     let op = os
-        .omega(
-            &shifted(model, s + ds),
-            &shifted(model, s + ds).channels[channel],
-            [0.0, 0.0],
-            b.delta,
-            t,
-        )?
+        .omega(&mp, &mp.channels()[channel], [0.0, 0.0], b.delta, t)?
         .0;
     let om = os
-        .omega(
-            &shifted(model, s - ds),
-            &shifted(model, s - ds).channels[channel],
-            [0.0, 0.0],
-            b.delta,
-            t,
-        )?
+        .omega(&mm, &mm.channels()[channel], [0.0, 0.0], b.delta, t)?
         .0;
-    let dn = ch.spin_channels * (op - om) / (2.0 * ds);
+    let dn = ch.spin_channels() * (op - om) / (2.0 * ds);
     Ok((n_normal, Some((n_normal + dn, b.delta, b.omega))))
+}
+
+/// One row of the shift scan: (shift s, normal density, uniform branch if any).
+type Row = (f64, f64, Option<UniformBranch>);
+
+/// What every step of the canonical search shares.
+struct Search<'a> {
+    os: &'a OrderedSolver,
+    model: &'a Model,
+    channel: usize,
+    t: f64,
+    /// The target net carrier density, 1/nm^2.
+    target: f64,
+}
+
+impl Search<'_> {
+    fn uniform_at(&self, s: f64) -> Result<(f64, Option<UniformBranch>), NumericalError> {
+        uniform_at(self.os, self.model, self.channel, s, self.t)
+    }
+
+    /// A state at the target density.
+    fn state(&self, state: &str, s: f64, delta: f64) -> CanonicalState {
+        CanonicalState {
+            state: state.into(),
+            mu_shift: -s,
+            delta,
+            ordered_fraction: None,
+            coexistence_densities: None,
+            density: self.target,
+        }
+    }
+
+    /// Rows of shifts: a coarse grid over the window and a fine one around the normal phase's
+    /// shift, where a weak (near-Tc) ordered branch with the target density lies.
+    fn rows(&self, window: f64, normal_shift: f64) -> Result<Vec<Row>, NumericalError> {
+        let n = 41;
+        let mut shifts: Vec<f64> = (0..n)
+            .map(|i| -window + 2.0 * window * i as f64 / (n - 1) as f64)
+            .collect();
+        let fine = 0.05 * window;
+        shifts.extend((0..=20).map(|i| normal_shift - fine + 2.0 * fine * i as f64 / 20.0));
+        shifts.sort_by(f64::total_cmp);
+        shifts.dedup();
+        let mut rows = Vec::with_capacity(shifts.len());
+        for s in shifts {
+            let (nn, u) = self.uniform_at(s)?;
+            rows.push((s, nn, u));
+        }
+        Ok(rows)
+    }
+
+    /// Coexistence: a sign change of the uniform Omega between rows with a uniform minimum,
+    /// whose two densities enclose the target.
+    fn coexistence(&self, rows: &[Row]) -> Result<Option<CanonicalState>, NumericalError> {
+        for w in rows.windows(2) {
+            let ((s0, _, Some(u0)), (s1, _, Some(u1))) = (&w[0], &w[1]) else {
+                continue;
+            };
+            if u0.2.signum() == u1.2.signum() {
+                continue;
+            }
+            let sc = brent_root("grand-canonical first-order point", *s0, *s1, 1e-10, |s| {
+                Ok(self.uniform_at(s)?.1.map(|u| u.2).unwrap_or(1.0))
+            })?
+            .x;
+            let (nn, u) = self.uniform_at(sc)?;
+            let (nu, d, _) = u.ok_or_else(|| {
+                NumericalError::NoMinimum(
+                    "the uniform minimum vanished at the first-order point".into(),
+                )
+            })?;
+            let (lo, hi) = (nn.min(nu), nn.max(nu));
+            if self.target > lo && self.target < hi {
+                return Ok(Some(CanonicalState {
+                    ordered_fraction: Some((self.target - nn) / (nu - nn)),
+                    coexistence_densities: Some([nn, nu]),
+                    ..self.state("coexistence", sc, d)
+                }));
+            }
+        }
+        Ok(None)
+    }
+
+    /// The uniform state at its own chemical potential (N_u(s) = target, found between rows that
+    /// bracket it) when it is the grand-canonical minimum there (Omega < 0): F(N) = max over mu
+    /// of [Omega(mu) + mu N] for a concave Omega, so F_normal(N) >= Omega_normal(mu_u) + mu_u N
+    /// > Omega_u(mu_u) + mu_u N = F_u(N).
+    fn uniform_phase(&self, rows: &[Row]) -> Result<Option<CanonicalState>, NumericalError> {
+        for w in rows.windows(2) {
+            let ((s0, _, Some(u0)), (s1, _, Some(u1))) = (&w[0], &w[1]) else {
+                continue;
+            };
+            if (u0.0 - self.target).signum() == (u1.0 - self.target).signum() {
+                continue;
+            }
+            let f = |s: f64| -> Result<f64, NumericalError> {
+                match self.uniform_at(s)?.1 {
+                    Some(u) => Ok(u.0 - self.target),
+                    None => Err(NumericalError::NoMinimum(
+                        "the uniform minimum vanished".into(),
+                    )),
+                }
+            };
+            let Ok(r) = brent_root("canonical chemical potential (uniform)", *s0, *s1, 1e-10, f)
+            else {
+                continue;
+            };
+            if let (_, Some((_, d, omega))) = self.uniform_at(r.x)? {
+                if omega < 0.0 {
+                    return Ok(Some(self.state("uniform", r.x, d)));
+                }
+            }
+        }
+        Ok(None)
+    }
 }
 
 /// Solves the canonical problem for `channel` at temperature t with the net carrier density of
@@ -172,6 +276,13 @@ pub fn canonical_state(
     window: f64,
 ) -> Result<CanonicalState, NumericalError> {
     let target = normal_carriers(model, 0.0);
+    let search = Search {
+        os,
+        model,
+        channel,
+        t,
+        target,
+    };
     // Grand-canonical first-order point: Omega of the uniform minimum crosses zero as s varies.
     // The normal phase's own shift.
     let normal_shift = brent_root(
@@ -179,109 +290,24 @@ pub fn canonical_state(
         -window,
         window,
         1e-12,
-        |s| Ok(normal_carriers(&shifted(model, s), t) - target),
+        |s| Ok(normal_carriers(&shifted(model, s)?, t) - target),
     )?
     .x;
-    // Rows of shifts: a coarse grid over the window and a fine one around the normal phase's
-    // shift, where a weak (near-Tc) ordered branch with the target density lies.
-    let n = 41;
-    let mut shifts: Vec<f64> = (0..n)
-        .map(|i| -window + 2.0 * window * i as f64 / (n - 1) as f64)
-        .collect();
-    let fine = 0.05 * window;
-    shifts.extend((0..=20).map(|i| normal_shift - fine + 2.0 * fine * i as f64 / 20.0));
-    shifts.sort_by(f64::total_cmp);
-    shifts.dedup();
-    let mut rows = Vec::with_capacity(shifts.len());
-    for s in shifts {
-        let (nn, u) = uniform_at(os, model, channel, s, t)?;
-        rows.push((s, nn, u));
+    let rows = search.rows(window, normal_shift)?;
+    if let Some(c) = search.coexistence(&rows)? {
+        return Ok(c);
     }
-
-    // Coexistence: a sign change of the uniform Omega between rows with a uniform minimum.
-    for w in rows.windows(2) {
-        let ((s0, _, Some(u0)), (s1, _, Some(u1))) = (&w[0], &w[1]) else {
-            continue;
-        };
-        if u0.2.signum() == u1.2.signum() {
-            continue;
-        }
-        let sc = brent_root("grand-canonical first-order point", *s0, *s1, 1e-10, |s| {
-            Ok(uniform_at(os, model, channel, s, t)?
-                .1
-                .map(|u| u.2)
-                .unwrap_or(1.0))
-        })?
-        .x;
-        let (nn, u) = uniform_at(os, model, channel, sc, t)?;
-        let (nu, d, _) = u.ok_or_else(|| {
-            NumericalError::Invalid("the uniform minimum vanished at the first-order point".into())
-        })?;
-        let (lo, hi) = (nn.min(nu), nn.max(nu));
-        if target > lo && target < hi {
-            return Ok(CanonicalState {
-                state: "coexistence".into(),
-                mu_shift: -sc,
-                delta: d,
-                ordered_fraction: Some((target - nn) / (nu - nn)),
-                coexistence_densities: Some([nn, nu]),
-                density: target,
-            });
-        }
+    if let Some(u) = search.uniform_phase(&rows)? {
+        return Ok(u);
     }
-    // A single phase. The uniform state at its own chemical potential (N_u(s) = target, found
-    // between rows that bracket it) wins when it is the grand-canonical minimum there (Omega < 0):
-    // F(N) = max over mu of [Omega(mu) + mu N] for a concave Omega, so F_normal(N) >=
-    // Omega_normal(mu_u) + mu_u N > Omega_u(mu_u) + mu_u N = F_u(N).
-    let mut best = CanonicalState {
-        state: "normal".into(),
-        mu_shift: -normal_shift,
-        delta: 0.0,
-        ordered_fraction: None,
-        coexistence_densities: None,
-        density: target,
-    };
-    for w in rows.windows(2) {
-        let ((s0, _, Some(u0)), (s1, _, Some(u1))) = (&w[0], &w[1]) else {
-            continue;
-        };
-        if (u0.0 - target).signum() == (u1.0 - target).signum() {
-            continue;
-        }
-        let f = |s: f64| -> Result<f64, NumericalError> {
-            match uniform_at(os, model, channel, s, t)?.1 {
-                Some(u) => Ok(u.0 - target),
-                None => Err(NumericalError::Invalid(
-                    "the uniform minimum vanished".into(),
-                )),
-            }
-        };
-        let Ok(r) = brent_root("canonical chemical potential (uniform)", *s0, *s1, 1e-10, f) else {
-            continue;
-        };
-        if let (_, Some((_, d, omega))) = uniform_at(os, model, channel, r.x, t)? {
-            if omega < 0.0 {
-                best = CanonicalState {
-                    state: "uniform".into(),
-                    mu_shift: -r.x,
-                    delta: d,
-                    ordered_fraction: None,
-                    coexistence_densities: None,
-                    density: target,
-                };
-                break;
-            }
-        }
-    }
-    if best.state == "normal" {
-        // The normal phase at its own chemical potential must be a grand-canonical minimum; if a
-        // uniform state lies below it there and no uniform phase has the target density, the
-        // ordered branch is not monotonic in density (negative compressibility): the system
-        // separates into phases of different density, which this solver does not construct.
-        if let (_, Some((_, _, omega))) = uniform_at(os, model, channel, normal_shift, t)? {
-            if omega < 0.0 {
-                best.state = "undetermined".into();
-            }
+    // The normal phase at its own chemical potential must be a grand-canonical minimum; if a
+    // uniform state lies below it there and no uniform phase has the target density, the
+    // ordered branch is not monotonic in density (negative compressibility): the system
+    // separates into phases of different density, which this solver does not construct.
+    let mut best = search.state("normal", normal_shift, 0.0);
+    if let (_, Some((_, _, omega))) = search.uniform_at(normal_shift)? {
+        if omega < 0.0 {
+            best.state = "undetermined".into();
         }
     }
     Ok(best)

@@ -11,26 +11,28 @@ use crate::model::Model;
 /// least 1e-3), capped at half the smallest |offset| of the pockets so that no band edge or
 /// Dirac point is crossed.
 pub fn fixed_density_window(model: &Model, channel: usize, t: f64) -> f64 {
-    let ch = &model.channels[channel];
+    let ch = &model.channels()[channel];
     let lambda = ch.lambda().max(1e-3);
-    let d0 = ch.cutoff / (1.0 / lambda).sinh();
+    let d0 = ch.cutoff() / (1.0 / lambda).sinh();
     let min_offset = model
-        .pockets
+        .pockets()
         .iter()
         .map(|p| p.offset().abs())
         .fold(f64::INFINITY, f64::min);
-    (2.0 * (ch.mismatch.abs() + d0) + 4.0 * t).min(0.5 * min_offset)
+    (2.0 * (ch.mismatch().abs() + d0) + 4.0 * t).min(0.5 * min_offset)
 }
 
 /// The pairs of channels (indices, i < j, in order) that share a pocket and have the same number
 /// of spin channels: their uniform states are ordered together.
 pub fn pocket_sharing_pairs(model: &Model) -> Vec<[usize; 2]> {
     let mut out = Vec::new();
-    for i in 0..model.channels.len() {
-        for j in i + 1..model.channels.len() {
-            let (ci, cj) = (&model.channels[i], &model.channels[j]);
-            let share = [ci.a, ci.b].iter().any(|p| *p == cj.a || *p == cj.b);
-            if share && ci.spin_channels == cj.spin_channels {
+    for i in 0..model.channels().len() {
+        for j in i + 1..model.channels().len() {
+            let (ci, cj) = (&model.channels()[i], &model.channels()[j]);
+            let share = [ci.a(), ci.b()]
+                .iter()
+                .any(|p| *p == cj.a() || *p == cj.b());
+            if share && ci.spin_channels() == cj.spin_channels() {
                 out.push([i, j]);
             }
         }
@@ -41,8 +43,8 @@ pub fn pocket_sharing_pairs(model: &Model) -> Vec<[usize; 2]> {
 /// The parameter varied by default to reach the modulated instability line of channel
 /// `channel`: the offset (meV) of its hole-like pocket b, as `NAME.offset`.
 pub fn default_line_path(model: &Model, channel: usize) -> String {
-    let ch = &model.channels[channel];
-    format!("{}.offset", model.pockets[ch.b].name)
+    let ch = &model.channels()[channel];
+    format!("{}.offset", model.pockets()[ch.b()].name())
 }
 
 #[cfg(test)]
@@ -62,12 +64,12 @@ mod tests {
     #[test]
     fn fixed_density_window_formula_and_cap() {
         let m = demo();
-        let ch = &m.channels[0];
-        let d0 = ch.cutoff / (1.0 / ch.lambda().max(1e-3)).sinh();
+        let ch = &m.channels()[0];
+        let d0 = ch.cutoff() / (1.0 / ch.lambda().max(1e-3)).sinh();
         let w0 = fixed_density_window(&m, 0, 0.0);
         assert!(w0 > 0.0 && w0 <= 25.0);
-        if 2.0 * (ch.mismatch.abs() + d0) < 25.0 {
-            assert!((w0 - 2.0 * (ch.mismatch.abs() + d0)).abs() < 1e-12);
+        if 2.0 * (ch.mismatch().abs() + d0) < 25.0 {
+            assert!((w0 - 2.0 * (ch.mismatch().abs() + d0)).abs() < 1e-12);
         }
         assert_eq!(fixed_density_window(&m, 0, 100.0), 25.0);
     }

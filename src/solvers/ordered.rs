@@ -148,13 +148,19 @@ impl OrderedSolver {
         if delta == 0.0 {
             if t <= 0.0 {
                 // chi diverges logarithmically at T = 0 for h = 0; use a tiny gap instead.
-                return Ok(
-                    gap_function(&shell, ch.g, ch.mismatch, 1e-9 * ch.cutoff, t, &acc)?.value,
-                );
+                return Ok(gap_function(
+                    &shell,
+                    ch.g(),
+                    ch.mismatch(),
+                    1e-9 * ch.cutoff(),
+                    t,
+                    &acc,
+                )?
+                .value);
             }
-            return Ok(1.0 / ch.g - susceptibility(&shell, t, &acc)?.value);
+            return Ok(1.0 / ch.g() - susceptibility(&shell, t, &acc)?.value);
         }
-        Ok(gap_function(&shell, ch.g, ch.mismatch, delta, t, &acc)?.value)
+        Ok(gap_function(&shell, ch.g(), ch.mismatch(), delta, t, &acc)?.value)
     }
 
     /// Omega(Delta) per spin channel at q.
@@ -167,7 +173,7 @@ impl OrderedSolver {
         t: f64,
     ) -> Result<(f64, f64), NumericalError> {
         let shell = Shell::for_channel(model, ch, q)?;
-        let e = grand_potential(&shell, ch.g, ch.mismatch, delta, t, &self.acc_at(q, t))?;
+        let e = grand_potential(&shell, ch.g(), ch.mismatch(), delta, t, &self.acc_at(q, t))?;
         Ok((e.value, e.error))
     }
 
@@ -180,13 +186,13 @@ impl OrderedSolver {
         t: f64,
     ) -> Result<Vec<(f64, f64)>, NumericalError> {
         let lambda = ch.lambda().max(1e-3);
-        let bcs = ch.cutoff / (1.0 / lambda).sinh();
-        let mut hi = (3.0 * bcs + 2.0 * ch.mismatch.abs()).min(ch.cutoff);
+        let bcs = ch.cutoff() / (1.0 / lambda).sinh();
+        let mut hi = (3.0 * bcs + 2.0 * ch.mismatch().abs()).min(ch.cutoff());
         for _ in 0..6 {
             if self.gap_fn(model, ch, q, hi, t)? > 0.0 {
                 break;
             }
-            hi = (hi * 2.0).min(4.0 * ch.cutoff);
+            hi = (hi * 2.0).min(4.0 * ch.cutoff());
         }
         let n = self.grid_points.max(8);
         let mut out = Vec::with_capacity(n + 1);
@@ -389,9 +395,9 @@ impl OrderedSolver {
             .min_by(|a, b| a.1.omega.total_cmp(&b.1.omega))
             .map(|(i, _)| i)
             .ok_or_else(|| {
-                NumericalError::Invalid(format!(
+                NumericalError::NoMinimum(format!(
                     "channel {}: Omega has no minimum on the gap grid at T = {t:.4e} meV (the normal state is unstable); refine the grid",
-                    ch.label
+                    ch.label()
                 ))
             })?;
         for (i, s) in all.iter_mut().enumerate() {
@@ -451,7 +457,7 @@ pub fn coupled_uniform(
     let mut single = [0.0; 2];
     let mut d_single = [0.0; 2];
     for (i, &c) in pair.iter().enumerate() {
-        let st = os.solve(model, &model.channels[c], t, None)?;
+        let st = os.solve(model, &model.channels()[c], t, None)?;
         let ch = st.chosen();
         single[i] = ch.omega;
         d_single[i] = ch.delta;
@@ -489,10 +495,10 @@ pub fn coupled_uniform(
     } else {
         "compete"
     };
-    let (c1, c2) = (&model.channels[pair[0]], &model.channels[pair[1]]);
+    let (c1, c2) = (&model.channels()[pair[0]], &model.channels()[pair[1]]);
     let p1 = c1.nesting_vector(model);
     let p2 = c2.nesting_vector(model);
-    let commensurate = model.surface.map(|l| {
+    let commensurate = model.surface().map(|l| {
         let f = |p: [f64; 2]| {
             let g = l.fold([2.0 * p[0], 2.0 * p[1]]);
             g[0].hypot(g[1]) < 1e-9
@@ -504,7 +510,7 @@ pub fn coupled_uniform(
         _ => "free (a Goldstone-like phase: the gauge of the unshared pockets absorbs it)".into(),
     };
     Ok(CoupledChannels {
-        channels: [c1.label.clone(), c2.label.clone()],
+        channels: [c1.label().to_string(), c2.label().to_string()],
         deltas: d,
         omega: value,
         omega_single: single,

@@ -228,7 +228,7 @@ fn iterate(
     opts: &PatternOptions,
     amplitude_scale: f64,
 ) -> Result<Solved, NumericalError> {
-    let g = model.channels[ch].g;
+    let g = model.channels()[ch].g();
     let orbits = sym.orbits(set.fourier.len());
     let mut acc = Anderson::new(opts.memory, opts.mixing);
     let mut x = x0;
@@ -305,10 +305,9 @@ pub fn solve_structure(
     start_amplitude: f64,
     opts: &PatternOptions,
 ) -> Result<PatternState, NumericalError> {
-    let c = model
-        .channels
-        .get(ch)
-        .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
+    let c = model.channels().get(ch).ok_or_else(|| {
+        NumericalError::BadArgument(format!("channel index {ch} is out of range"))
+    })?;
     check_start(wavevectors, phases, start_amplitude)?;
     let set = HarmonicSet::new(wavevectors, opts.order)?;
     let start: Vec<([f64; 2], Complex64)> = wavevectors
@@ -332,7 +331,7 @@ pub fn solve_structure(
         grid_change,
         grid,
         mut iterations,
-    } = solve.converge_grid(&set, &sym, solved, wavevectors.len(), c.g)?;
+    } = solve.converge_grid(&set, &sym, solved, wavevectors.len(), c.g())?;
     // Harmonics: order m + 1 on the solve grid.
     let (harmonic_change, harmonic_component_change) = match opts.harmonic_check {
         HarmonicCheck::None => (f64::NAN, f64::NAN),
@@ -359,7 +358,7 @@ pub fn solve_structure(
         components: on_fourier(&set, &solved.x),
         omega: fine.omega,
         omega_error,
-        spin_channels: c.spin_channels,
+        spin_channels: c.spin_channels(),
         iterations,
         residual: solved.residual,
         harmonic_change,
@@ -385,14 +384,14 @@ fn check_start(
     start_amplitude: f64,
 ) -> Result<(), NumericalError> {
     if phases.len() != wavevectors.len() {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "{} phases given for {} wavevectors",
             phases.len(),
             wavevectors.len()
         )));
     }
     if !start_amplitude.is_finite() || start_amplitude <= 0.0 {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "the starting amplitude must be positive (got {start_amplitude} meV)"
         )));
     }
@@ -540,7 +539,7 @@ pub fn omega_at_amplitude(
     grid: &HarmonicGrid,
 ) -> Result<(f64, f64), NumericalError> {
     if phases.len() != wavevectors.len() {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "{} phases given for {} wavevectors",
             phases.len(),
             wavevectors.len()

@@ -83,7 +83,7 @@ where
             lo: a,
             hi: b,
         }),
-        Err(e) => Err(NumericalError::Invalid(format!("{what}: {e:?}"))),
+        Err(e) => Err(NumericalError::RootSearch(format!("{what}: {e:?}"))),
     }
 }
 
@@ -100,8 +100,8 @@ mod tests {
             Err(NumericalError::NotBracketed { .. })
         ));
         let err = brent_root("failing", 0.0, 1.0, 1e-12, |_| {
-            Err(NumericalError::Invalid("boom".into()))
+            Err(NumericalError::RootSearch("boom".into()))
         });
-        assert_eq!(err.unwrap_err(), NumericalError::Invalid("boom".into()));
+        assert_eq!(err.unwrap_err(), NumericalError::RootSearch("boom".into()));
     }
 }

@@ -84,7 +84,7 @@ pub struct ModulatedTc {
 /// Fermi velocity of the channel's pockets over a few directions and |h| the largest |h_k| on the
 /// nesting line (v q/2 ~ h is where the modulated instability lies).
 pub fn q_search_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
     let mut v = f64::INFINITY;
     for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
         v = v
@@ -92,10 +92,10 @@ pub fn q_search_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
             .min(b.fermi_velocity_along(d));
     }
     let h = ch
-        .mismatch
+        .mismatch()
         .abs()
-        .max(ch.mismatch_range[0].abs())
-        .max(ch.mismatch_range[1].abs());
+        .max(ch.mismatch_range()[0].abs())
+        .max(ch.mismatch_range()[1].abs());
     2.0 * (h + 2.0 * t) / v
 }
 
@@ -106,7 +106,7 @@ pub fn nested_tc(ch: &Channel) -> Option<f64> {
     if l > 0.0 {
         Some(
             2.0 * crate::special::EULER_GAMMA.exp() / std::f64::consts::PI
-                * ch.cutoff
+                * ch.cutoff()
                 * (-1.0 / l).exp(),
         )
     } else {
@@ -125,7 +125,7 @@ impl TcSolver {
         acc: &Accuracy,
     ) -> Result<f64, NumericalError> {
         let shell = Shell::for_channel(model, ch, q)?;
-        Ok(ch.g * susceptibility(&shell, t, acc)?.value)
+        Ok(ch.g() * susceptibility(&shell, t, acc)?.value)
     }
 
     /// A temperature above every instability of the channel (g chi(0, T) < 1 there).
@@ -137,8 +137,8 @@ impl TcSolver {
     ) -> Result<f64, NumericalError> {
         let mut t = nested_tc(ch)
             .map(|t| 1.5 * t)
-            .unwrap_or(ch.cutoff)
-            .min(ch.cutoff);
+            .unwrap_or(ch.cutoff())
+            .min(ch.cutoff());
         for _ in 0..40 {
             count.set(count.get() + 1);
             if self.g_chi(model, ch, [0.0, 0.0], t, &self.acc.coarse())? < 0.9 {
@@ -146,9 +146,9 @@ impl TcSolver {
             }
             t *= 2.0;
         }
-        Err(NumericalError::Invalid(format!(
+        Err(NumericalError::UnstableAtTop(format!(
             "channel {}: g chi stays above 1 up to T = {t:.3e} meV",
-            ch.label
+            ch.label()
         )))
     }
 
@@ -168,7 +168,7 @@ impl TcSolver {
         let ratio = 0.8;
         let mut prev = (t_top, f(t_top)?);
         if prev.1 >= 0.0 {
-            return Err(NumericalError::Invalid(format!(
+            return Err(NumericalError::UnstableAtTop(format!(
                 "{what}: unstable at the top temperature {t_top:.4e} meV"
             )));
         }
@@ -219,11 +219,11 @@ impl TcSolver {
         let shell = Shell::for_channel(model, ch, q)?;
         let checked = susceptibility_checked(&shell, t, &self.acc)?;
         let dt = 1e-4 * t;
-        let up = ch.g * susceptibility(&shell, t + dt, &self.acc)?.value;
-        let dn = ch.g * susceptibility(&shell, t - dt, &self.acc)?.value;
+        let up = ch.g() * susceptibility(&shell, t + dt, &self.acc)?.value;
+        let dn = ch.g() * susceptibility(&shell, t - dt, &self.acc)?.value;
         count.set(count.get() + 4);
         let slope = ((up - dn) / (2.0 * dt)).abs();
-        let err = ch.g * checked.error / slope.max(1e-300) + self.t_rel * t;
+        let err = ch.g() * checked.error / slope.max(1e-300) + self.t_rel * t;
         Ok((err, slope))
     }
 
@@ -246,13 +246,13 @@ impl TcSolver {
         let floor = self.uniform_floor * t_ref;
         let shell = Shell::for_channel(model, ch, q)?;
         let found = self.largest_root(
-            &format!("Tc of channel {}", ch.label),
+            &format!("Tc of channel {}", ch.label()),
             t_top,
             floor,
             self.t_rel,
             |t| {
                 count.set(count.get() + 1);
-                Ok(ch.g * susceptibility(&shell, t, &self.acc)?.value - 1.0)
+                Ok(ch.g() * susceptibility(&shell, t, &self.acc)?.value - 1.0)
             },
         )?;
         match found {
@@ -260,7 +260,7 @@ impl TcSolver {
                 let (error, _) = self.root_error(model, ch, q, tc, &count)?;
                 if error > 1e-5 * tc {
                     return Err(NumericalError::NotConverged {
-                        what: format!("Tc of channel {}", ch.label),
+                        what: format!("Tc of channel {}", ch.label()),
                         iterations: count.get(),
                         last_change: error,
                         target: 1e-5 * tc,
@@ -357,7 +357,7 @@ impl TcSolver {
             ..self.acc
         };
         let v = {
-            let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+            let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
             a.fermi_velocity_along(dir).max(b.fermi_velocity_along(dir))
         };
         let step = 0.1 * t / v;
@@ -403,7 +403,7 @@ impl TcSolver {
         // chi depends on q only through eps_a(k + q): its structure in q is smeared over
         // |q| ~ T / v_a.
         let v_max = {
-            let a = &model.pockets[ch.a];
+            let a = &model.pockets()[ch.a()];
             [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]]
                 .iter()
                 .map(|d| a.fermi_velocity_along(*d))
@@ -603,7 +603,7 @@ impl TcSolver {
         Err(NumericalError::NotConverged {
             what: format!(
                 "maximum of chi over q of channel {} at T = {t:.6e} meV",
-                ch.label
+                ch.label()
             ),
             iterations: MAX_ROUNDS,
             last_change: f64::NAN,
@@ -746,7 +746,7 @@ impl TcSolver {
             Bottom::Floor(self.modulated_floor * t_ref)
         };
         let floor = bottom.t();
-        let what = format!("modulated Tc of channel {}", ch.label);
+        let what = format!("modulated Tc of channel {}", ch.label());
         let (lo, hi) = match self.scan_down(model, ch, iso, t_top, bottom, &what, &count)? {
             Scan::Bracket(lo, hi) => (lo, hi),
             Scan::UniformWins => return Ok(uniform_wins()),
@@ -801,7 +801,8 @@ impl TcSolver {
         let q = fin.q;
         // Global check at the root: no other wavevector may be more unstable.
         let grid = self.grid_scan(model, ch, root_t, &coarse, iso, &count)?;
-        let vl = ch.g * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value;
+        let vl =
+            ch.g() * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value;
         count.set(count.get() + 1);
         let qn = q[0].hypot(q[1]);
         let near = |p: [f64; 2]| {
@@ -869,9 +870,9 @@ impl TcSolver {
     }
 
     fn competing(&self, ch: &Channel, qg: [f64; 2], q: [f64; 2]) -> NumericalError {
-        NumericalError::Invalid(format!(
+        NumericalError::CompetingMaxima(format!(
             "modulated Tc of channel {}: a second maximum of chi(q) at q = ({:.4e}, {:.4e})/nm competes with q = ({:.4e}, {:.4e})/nm",
-            ch.label, qg[0], qg[1], q[0], q[1]
+            ch.label(), qg[0], qg[1], q[0], q[1]
         ))
     }
 
@@ -894,7 +895,7 @@ impl TcSolver {
         let t_stop = bottom.t();
         let top = self.scan_point(model, ch, t_top, iso, None, count)?;
         if top.value >= 1.0 {
-            return Err(NumericalError::Invalid(format!(
+            return Err(NumericalError::UnstableAtTop(format!(
                 "{what}: unstable at the top temperature {t_top:.4e} meV"
             )));
         }
@@ -1288,7 +1289,7 @@ where
     F: FnMut(f64) -> Result<f64, NumericalError>,
 {
     if !(step > 0.0 && step.is_finite() && x0.is_finite()) {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::RootSearch(format!(
             "{what}: bad starting step {step:e} at {x0:e}"
         )));
     }

@@ -58,9 +58,9 @@ pub fn channel_tc(
             let uniform = solver.uniform(model, ch)?;
             let modulated = solver.modulated(model, ch, &uniform)?;
             Ok(ChannelTc {
-                label: ch.label.clone(),
+                label: ch.label().to_string(),
                 method,
-                mismatch: ch.mismatch,
+                mismatch: ch.mismatch(),
                 tc_nested: nested_tc(ch),
                 uniform,
                 modulated,
@@ -72,13 +72,11 @@ pub fn channel_tc(
 }
 
 fn weak_err(e: weak::WeakError) -> NestorError {
-    NestorError::Numerical(NumericalError::Invalid(format!(
-        "weak-coupling closed form: {e}"
-    )))
+    NestorError::Numerical(NumericalError::WeakClosedForm(e.to_string()))
 }
 
 fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError> {
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
+    let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
     let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
     let mut notes = Vec::new();
     let dir = [1.0, 0.0];
@@ -91,7 +89,7 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             "weak method: unequal Fermi velocities ({va:.4} and {vb:.4} meV nm); the closed form uses their mean"
         ));
     }
-    if !ch.form.is_constant() {
+    if !ch.form().is_constant() {
         notes.push("weak method: the form factor enters only through nu_ab (its angular structure is ignored)".into());
     }
     let v = 0.5 * (va + vb);
@@ -104,9 +102,9 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             evaluations: 0,
         };
         return Ok(ChannelTc {
-            label: ch.label.clone(),
+            label: ch.label().to_string(),
             method: Method::Weak,
-            mismatch: ch.mismatch,
+            mismatch: ch.mismatch(),
             tc_nested: None,
             uniform: none.clone(),
             modulated: ModulatedTc {
@@ -118,7 +116,7 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             notes,
         });
     };
-    let h = ch.mismatch / t0;
+    let h = ch.mismatch() / t0;
     let report = |t: Option<f64>| match t {
         Some(t) => TcReport {
             tc: t * t0,
@@ -158,9 +156,9 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
         modulated.tc = uniform.clone();
     }
     Ok(ChannelTc {
-        label: ch.label.clone(),
+        label: ch.label().to_string(),
         method: Method::Weak,
-        mismatch: ch.mismatch,
+        mismatch: ch.mismatch(),
         tc_nested: Some(t0),
         uniform,
         modulated,

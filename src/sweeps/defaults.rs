@@ -1,7 +1,7 @@
 //! Defaults of a sweep that depend on the physics along its axis (after the solvers, before the
 //! phase diagram is mapped): the highest temperature of a phase diagram. Temperatures in meV.
 
-use super::{model_at, Grid};
+use super::{Grid, Sweep};
 use crate::config::ConfigSource;
 use crate::error::NestorError;
 use crate::model::Model;
@@ -18,11 +18,11 @@ pub fn default_t_max(
     channel: usize,
     tc: &TcSolver,
 ) -> Result<Option<f64>, NestorError> {
-    let pinned = model.pinned_couplings();
+    let sweep = Sweep::new(src, model, grid)?;
     let mut best: f64 = 0.0;
     for i in [0, grid.len() / 2, grid.len() - 1] {
-        let m = model_at(src, &pinned, grid, i)?;
-        let ch = &m.channels[channel];
+        let m = sweep.model_at(i)?;
+        let ch = &m.channels()[channel];
         let u = tc.uniform(&m, ch).map_err(NestorError::from)?;
         best = best.max(u.tc);
         let md = tc.modulated(&m, ch, &u).map_err(NestorError::from)?;
@@ -48,8 +48,11 @@ mod tests {
         let t_max = default_t_max(&src, &model, &grid, 0, &tc)
             .unwrap()
             .expect("the demo surface is unstable along this axis");
-        let m = model_at(&src, &model.pinned_couplings(), &grid, 1).unwrap();
-        let u = tc.uniform(&m, &m.channels[0]).unwrap();
+        let m = Sweep::new(&src, &model, &grid)
+            .unwrap()
+            .model_at(1)
+            .unwrap();
+        let u = tc.uniform(&m, &m.channels()[0]).unwrap();
         assert!(t_max >= 1.2 * u.tc * (1.0 - 1e-12) && t_max > 0.0);
     }
 }

@@ -6,9 +6,9 @@ pub mod defaults;
 pub mod phase_map;
 pub mod tc_scan;
 
-use crate::config::{ConfigSource, Override, PinnedCouplings, Range};
+use crate::config::{ConfigSource, Range};
 use crate::error::InputError;
-use crate::model::Model;
+use crate::model::{Model, Param};
 use indicatif::{ProgressBar, ProgressStyle};
 use rayon::prelude::*;
 
@@ -20,6 +20,7 @@ pub struct Grid {
 }
 
 impl Grid {
+    /// A grid of one or two distinct axes, at most 10^6 points.
     pub fn new(axes: Vec<Range>) -> Result<Self, InputError> {
         if axes.is_empty() || axes.len() > 2 {
             return Err(InputError::new(
@@ -41,10 +42,12 @@ impl Grid {
         Ok(Grid { axes })
     }
 
+    /// Number of points.
     pub fn len(&self) -> usize {
         self.axes.iter().map(|a| a.n).product()
     }
 
+    /// Whether the grid has no point.
     pub fn is_empty(&self) -> bool {
         self.len() == 0
     }
@@ -60,33 +63,61 @@ impl Grid {
         }
         out
     }
-
-    /// The overrides of point i.
-    pub fn overrides(&self, i: usize) -> Vec<Override> {
-        self.values(i)
-            .iter()
-            .zip(&self.axes)
-            .map(|(v, a)| a.at(*v))
-            .collect()
-    }
 }
 
-/// The model at one sweep point: the base configuration with the point's overrides, g pinned to
-/// the base configuration except for channels whose coupling the sweep itself varies.
-pub fn model_at(
-    base: &ConfigSource,
-    pinned: &PinnedCouplings,
-    grid: &Grid,
-    i: usize,
-) -> Result<Model, InputError> {
-    let ovs = grid.overrides(i);
-    let unpinned: Vec<String> = ovs
-        .iter()
-        .filter(|o| o.key == "lambda" || o.key == "g")
-        .map(|o| o.target.clone())
-        .collect();
-    base.with_overrides(&ovs)?
-        .build_with(Some(pinned), &unpinned)
+/// A grid resolved against its base model: the typed parameter of each axis, so that a point's
+/// model is the base model with those parameters set (no text, no TOML, no re-parsing), g pinned
+/// at the base model except in channels whose coupling the sweep itself varies.
+#[derive(Debug, Clone)]
+pub struct Sweep<'a> {
+    /// File name of the base configuration, for messages.
+    pub origin: &'a str,
+    /// The base model (couplings converted there).
+    pub base: &'a Model,
+    /// The grid of values.
+    pub grid: &'a Grid,
+    /// The parameter of each axis of `grid`.
+    pub params: Vec<Param>,
+}
+
+impl<'a> Sweep<'a> {
+    /// Resolves every axis of `grid` against `base` (built from `src`); an unknown name or key,
+    /// or a key the pocket was not given with, fails here, before any point is computed.
+    pub fn new(src: &'a ConfigSource, base: &'a Model, grid: &'a Grid) -> Result<Self, InputError> {
+        let params = grid
+            .axes
+            .iter()
+            .map(|a| a.resolve(&src.origin, base))
+            .collect::<Result<Vec<_>, _>>()?;
+        Ok(Sweep {
+            origin: &src.origin,
+            base,
+            grid,
+            params,
+        })
+    }
+
+    /// The model at point i of the grid.
+    pub fn model_at(&self, i: usize) -> Result<Model, InputError> {
+        let changes: Vec<(Param, f64)> = self
+            .params
+            .iter()
+            .copied()
+            .zip(self.grid.values(i))
+            .collect();
+        self.model_with(&changes)
+    }
+
+    /// The base model with the first axis's parameter set to `x` (a point between grid points).
+    pub fn model_along(&self, x: f64) -> Result<Model, InputError> {
+        self.model_with(&[(self.params[0], x)])
+    }
+
+    fn model_with(&self, changes: &[(Param, f64)]) -> Result<Model, InputError> {
+        self.base
+            .with(changes)
+            .map_err(|e| InputError::new(format!("{}: {e}", self.origin)))
+    }
 }
 
 /// Runs `f` on every point index in parallel (on `threads` threads, or rayon's default) with an

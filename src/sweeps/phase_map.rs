@@ -4,7 +4,7 @@
 //! minimum disappears, and the tricritical (beta = 0) and Lifshitz (q-curvature = 0) points on
 //! the uniform instability line, each refined in the parameter by Brent's method.
 
-use super::{model_at, par_map, Grid};
+use super::{par_map, Grid, Sweep};
 use crate::config::ConfigSource;
 use crate::error::{InputError, NestorError, NumericalError};
 use crate::kernels::grand_potential::quartic_loop;
@@ -97,8 +97,7 @@ pub struct StructureMark {
 /// Ranks the structures at up to `count` points spread along the modulated instability line of
 /// `d` (columns where q* != 0), in parallel; the marks land in `d.structure_marks`.
 pub fn mark_structures(
-    src: &ConfigSource,
-    grid: &Grid,
+    sweep: &Sweep,
     d: &mut PhaseDiagram,
     ps: &crate::solvers::pattern::PatternSolver,
     count: usize,
@@ -122,11 +121,7 @@ pub fn mark_structures(
             .map(|k| on_line[(k * (on_line.len() - 1) + (count - 1) / 2) / (count - 1).max(1)])
             .collect()
     };
-    let pinned = src
-        .build(None)
-        .map(|m| m.pinned_couplings())
-        .unwrap_or_default();
-    let path = grid.axes[0].path();
+    let path = sweep.grid.axes[0].path();
     let channel = d.channel;
     let marks = par_map(picks.len(), threads, false, |k| {
         let (i, value, t, q) = picks[k];
@@ -138,7 +133,7 @@ pub fn mark_structures(
             first_order: vec![],
             failure: Some(e),
         };
-        let m = match model_at(src, &pinned, grid, i) {
+        let m = match sweep.model_at(i) {
             Ok(m) => m,
             Err(e) => return fail(e.0),
         };
@@ -236,7 +231,7 @@ fn column(
     os: &OrderedSolver,
     value: f64,
 ) -> Result<Column, NestorError> {
-    let ch = &m.channels[opts.channel];
+    let ch = &m.channels()[opts.channel];
     let u = tc.uniform(m, ch)?;
     let md = tc.modulated(m, ch, &u)?;
     let (t_u, beta, curv) = if u.status == TcStatus::Unstable {
@@ -326,13 +321,12 @@ pub fn phase_diagram(
             "phases: give exactly one --vary range (the temperature is the other axis)",
         ));
     }
-    if opts.channel >= base_model.channels.len() {
+    if opts.channel >= base_model.channels().len() {
         return Err(InputError::new(
             "phases: the configuration has no such channel",
         ));
     }
-    let pinned = base_model.pinned_couplings();
-    base.with_overrides(&grid.overrides(0))?;
+    let sweep = Sweep::new(base, base_model, grid)?;
     let n_t = opts.temperatures.max(2);
     // The lowest row sits at a quarter step above T = 0, where Omega at q != 0 has kinks in angle.
     let temps: Vec<f64> = (0..n_t)
@@ -341,7 +335,8 @@ pub fn phase_diagram(
     let columns: Vec<Result<Column, String>> =
         par_map(grid.len(), opts.threads, opts.progress, |i| {
             let value = grid.values(i)[0];
-            model_at(base, &pinned, grid, i)
+            sweep
+                .model_at(i)
                 .map_err(NestorError::from)
                 .and_then(|m| column(&m, opts, &temps, tc, os, value))
                 .map_err(|e| e.to_string())
@@ -379,13 +374,11 @@ pub fn phase_diagram(
         }
     }
     // Special points along the uniform line, refined in the parameter.
-    let range = &grid.axes[0];
-    let has_uniform = |x: f64| -> bool {
-        base.with_overrides(&[range.at(x)])
-            .and_then(|s| s.build(Some(&pinned)))
-            .ok()
-            .and_then(|m| tc.uniform(&m, &m.channels[opts.channel]).ok())
-            .is_some_and(|u| u.status == TcStatus::Unstable)
+    // Whether the uniform line exists at x; a failure to decide is an error, not a "no".
+    let has_uniform = |x: f64| -> Result<bool, NestorError> {
+        let m = sweep.model_along(x)?;
+        let u = tc.uniform(&m, &m.channels()[opts.channel])?;
+        Ok(u.status == TcStatus::Unstable)
     };
     // Failures of the special-point searches are recorded, so that "none in range" is not
     // reported where a search failed.
@@ -407,13 +400,21 @@ pub fn phase_diagram(
                         } else {
                             (b.value, a.value)
                         };
+                        let mut failed = false;
                         for _ in 0..30 {
                             let mid = 0.5 * (inside + outside);
-                            if has_uniform(mid) {
-                                inside = mid;
-                            } else {
-                                outside = mid;
+                            match has_uniform(mid) {
+                                Ok(true) => inside = mid,
+                                Ok(false) => outside = mid,
+                                Err(e) => {
+                                    fail(what, e.to_string());
+                                    failed = true;
+                                    break;
+                                }
                             }
+                        }
+                        if failed {
+                            continue;
                         }
                         let start = if pick(a).is_some() { a.value } else { b.value };
                         (start.min(inside), start.max(inside), fa)
@@ -422,17 +423,20 @@ pub fn phase_diagram(
                 };
                 let _ = fa;
                 let eval = |x: f64| -> Result<f64, NumericalError> {
-                    let o = range.at(x);
-                    let m = base
-                        .with_overrides(&[o])
-                        .and_then(|s| s.build(Some(&pinned)))
-                        .map_err(|e| NumericalError::Invalid(e.to_string()))?;
-                    let ch = &m.channels[opts.channel];
+                    let m = sweep
+                        .model_along(x)
+                        .map_err(|reason| NumericalError::Stopped {
+                            what: what.to_string(),
+                            at: x,
+                            reason,
+                        })?;
+                    let ch = &m.channels()[opts.channel];
                     let u = tc.uniform(&m, ch)?;
                     if u.status != TcStatus::Unstable {
-                        return Err(NumericalError::Invalid(format!(
-                            "{what}: no uniform instability at {x}"
-                        )));
+                        return Err(NumericalError::NoUniformInstability {
+                            what: what.to_string(),
+                            at: x,
+                        });
                     }
                     if which == 0 {
                         Ok(
@@ -452,17 +456,14 @@ pub fn phase_diagram(
                         continue;
                     }
                 };
-                let m = match base
-                    .with_overrides(&[range.at(x)])
-                    .and_then(|s| s.build(Some(&pinned)))
-                {
+                let m = match sweep.model_along(x) {
                     Ok(m) => m,
                     Err(e) => {
                         fail(what, e.to_string());
                         return None;
                     }
                 };
-                let ch = &m.channels[opts.channel];
+                let ch = &m.channels()[opts.channel];
                 let (u, md) = match tc
                     .uniform(&m, ch)
                     .and_then(|u| Ok((u.clone(), tc.modulated(&m, ch, &u)?)))

@@ -31,7 +31,7 @@ pub fn nested_pair(lambda: f64, cutoff: f64, e_f: f64, h: f64) -> (ConfigSource,
 pub fn nested_pair_fixed_g(base: &Model, cutoff: f64, e_f: f64, h: f64) -> (ConfigSource, Model) {
     let (src, _) = nested_pair(0.25, cutoff, e_f, h);
     let m = src
-        .build(Some(&PinnedCouplings(vec![base.channels[0].g])))
+        .build(Some(&PinnedCouplings(vec![base.channels()[0].g()])))
         .unwrap();
     (src, m)
 }

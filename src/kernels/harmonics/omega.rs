@@ -174,8 +174,8 @@ impl<'a> OmegaAt<'a> {
             ..
         } = *self;
         let sym = ray_symmetry(model, ch, set, deltas);
-        let g = model.channels.get(ch).map(|c| c.g).ok_or_else(|| {
-            NumericalError::Invalid(format!("channel index {ch} is out of range"))
+        let g = model.channels().get(ch).map(|c| c.g()).ok_or_else(|| {
+            NumericalError::BadArgument(format!("channel index {ch} is out of range"))
         })?;
         let mut grid = *grid;
         let mut prev = self.on_grid(&grid, &sym)?;
@@ -208,14 +208,13 @@ fn on_grid(
 ) -> Result<MultiOmega, NumericalError> {
     let (model, ch, set, deltas, t) = (at.model, at.ch, at.set, at.deltas, at.t);
     let (intraband, derivatives) = (at.intraband, at.derivatives);
-    let c = model
-        .channels
-        .get(ch)
-        .ok_or_else(|| NumericalError::Invalid(format!("channel index {ch} is out of range")))?;
+    let c = model.channels().get(ch).ok_or_else(|| {
+        NumericalError::BadArgument(format!("channel index {ch} is out of range"))
+    })?;
     check_inputs(set, deltas, t, grid)?;
-    let (a, b) = (&model.pockets[c.a], &model.pockets[c.b]);
+    let (a, b) = (&model.pockets()[c.a()], &model.pockets()[c.b()]);
     let shell0 = Shell::for_channel(model, c, [0.0, 0.0])?;
-    check_dirac_points(a, b, c.cutoff, set)?;
+    check_dirac_points(a, b, c.cutoff(), set)?;
     let (qs, n_requested) = closed_intraband(set, intraband, symmetry);
     let pairs = [0, 1].map(|wi| same_pocket_pairs(set, wi, &qs));
     let e_core = core_half_width(a, b, c, set, t);
@@ -223,8 +222,8 @@ fn on_grid(
     let ev = Evaluator {
         a,
         b,
-        matrix: c.spin_matrix,
-        cutoff: c.cutoff,
+        matrix: c.spin_matrix(),
+        cutoff: c.cutoff(),
         t,
         set,
         deltas,
@@ -251,12 +250,12 @@ fn on_grid(
         intraband: intra,
         diagonalisations,
     } = sums;
-    let quad: f64 = deltas.iter().map(|d| d.norm_sqr()).sum::<f64>() / c.g;
+    let quad: f64 = deltas.iter().map(|d| d.norm_sqr()).sum::<f64>() / c.g();
     let (coherence, gradient, intraband) = if derivatives {
         let gradient = deltas
             .iter()
             .zip(&coh)
-            .map(|(d, x)| *d / c.g + *x)
+            .map(|(d, x)| *d / c.g() + *x)
             .collect();
         let intraband = (0..n_requested)
             .map(|k| (qs[k], intra[k][0], intra[k][1]))
@@ -286,14 +285,14 @@ fn check_inputs(
     grid: &HarmonicGrid,
 ) -> Result<(), NumericalError> {
     if deltas.len() != set.fourier.len() {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "{} components given for a Fourier set of {}",
             deltas.len(),
             set.fourier.len()
         )));
     }
     if !t.is_finite() || t < 0.0 {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "temperature must be finite and >= 0 (got {t} meV)"
         )));
     }
@@ -305,7 +304,7 @@ fn check_inputs(
         || grid.panel_temperatures.is_nan()
         || grid.panel_temperatures <= 0.0
     {
-        return Err(NumericalError::Invalid(format!(
+        return Err(NumericalError::BadArgument(format!(
             "invalid harmonic grid {grid:?}"
         )));
     }
@@ -370,13 +369,13 @@ fn core_half_width(a: &Pocket, b: &Pocket, c: &Channel, set: &HarmonicSet, t: f6
         .map(|d| a.fermi_velocity_along(*d).max(b.fermi_velocity_along(*d)))
         .fold(0.0, f64::max);
     let h_max = c
-        .mismatch
+        .mismatch()
         .abs()
-        .max(c.mismatch_range[0].abs())
-        .max(c.mismatch_range[1].abs());
+        .max(c.mismatch_range()[0].abs())
+        .max(c.mismatch_range()[1].abs());
     let lambda = c.lambda();
     let delta_bcs = if lambda > 0.0 {
-        c.cutoff / (1.0 / lambda).sinh()
+        c.cutoff() / (1.0 / lambda).sinh()
     } else {
         0.0
     };
@@ -510,7 +509,7 @@ fn check_dirac_points(
         for (ka, kb) in points {
             let xi = 0.5 * (a.energy(ka) - b.energy(kb));
             if xi >= -cutoff {
-                return Err(NumericalError::Invalid(format!(
+                return Err(NumericalError::DiracPointInShell(format!(
                     "the shell |xi| < {cutoff} meV of the harmonic G = ({:.4}, {:.4})/nm reaches a Dirac point (xi = {xi:.4} meV there): lower the cutoff or the harmonic order",
                     g[0], g[1]
                 )));

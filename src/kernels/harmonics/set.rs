@@ -122,12 +122,12 @@ impl HarmonicSet {
     /// (1/nm, distinct).
     pub fn new(wavevectors: &[[f64; 2]], order: usize) -> Result<Self, NumericalError> {
         if wavevectors.is_empty() {
-            return Err(NumericalError::Invalid(
+            return Err(NumericalError::BadArgument(
                 "a structure needs at least one wavevector".into(),
             ));
         }
         if order == 0 {
-            return Err(NumericalError::Invalid(
+            return Err(NumericalError::BadArgument(
                 "the harmonic order must be at least 1".into(),
             ));
         }
@@ -135,13 +135,15 @@ impl HarmonicSet {
             .iter()
             .any(|q| !q[0].is_finite() || !q[1].is_finite())
         {
-            return Err(NumericalError::Invalid("wavevectors must be finite".into()));
+            return Err(NumericalError::BadArgument(
+                "wavevectors must be finite".into(),
+            ));
         }
         let qmax = longest(wavevectors);
         let tol = 1e-9 * qmax + 1e-15;
         for (i, q) in wavevectors.iter().enumerate() {
             if wavevectors[..i].iter().any(|p| same(*p, *q, tol)) {
-                return Err(NumericalError::Invalid(format!(
+                return Err(NumericalError::BadArgument(format!(
                     "wavevector ({:.6}, {:.6})/nm is given twice",
                     q[0], q[1]
                 )));
@@ -237,7 +239,7 @@ impl HarmonicSet {
             match self.index(*g) {
                 Some(i) => out[i] += *d,
                 None => {
-                    return Err(NumericalError::Invalid(format!(
+                    return Err(NumericalError::BadArgument(format!(
                         "component G = ({:.6}, {:.6})/nm is not in the Fourier set of order {}",
                         g[0], g[1], self.order
                     )))

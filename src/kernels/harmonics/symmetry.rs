@@ -60,7 +60,7 @@ impl RaySymmetry {
 
 /// Whether rotating every momentum leaves the vertex M_ab itself (not only |M_ab|^2) unchanged.
 fn vertex_rotation_invariant(ch: &Channel) -> bool {
-    match ch.form {
+    match ch.form() {
         FormFactor::Unity => true,
         FormFactor::Helical {
             winding_a,
@@ -80,8 +80,8 @@ pub fn ray_symmetry(
     set: &HarmonicSet,
     deltas: &[Complex64],
 ) -> RaySymmetry {
-    let c = &model.channels[ch];
-    let (a, b) = (&model.pockets[c.a], &model.pockets[c.b]);
+    let c = &model.channels()[ch];
+    let (a, b) = (&model.pockets()[c.a()], &model.pockets()[c.b()]);
     if !(a.is_isotropic() && b.is_isotropic() && vertex_rotation_invariant(c)) {
         return RaySymmetry::Full;
     }

@@ -36,8 +36,8 @@ pub fn single_wavevector_candidates(
     solver: &crate::solvers::ordered::OrderedSolver,
 ) -> Result<Vec<StateCandidate>, NumericalError> {
     use crate::solvers::ordered::{plane_wave_q_scale, StateKind};
-    let ch = &model.channels[channel];
-    let ns = ch.spin_channels;
+    let ch = &model.channels()[channel];
+    let ns = ch.spin_channels();
     let qs = plane_wave_q_scale(model, ch, t);
     let states = solver.solve(model, ch, t, Some(qs))?;
     let mut out = vec![StateCandidate {
@@ -99,7 +99,7 @@ pub fn structure_candidates(
     single: &[StateCandidate],
     every: bool,
 ) -> Result<Vec<StateCandidate>, NumericalError> {
-    let ch = &model.channels[channel];
+    let ch = &model.channels()[channel];
     let plane = single.iter().find(|c| c.name == "plane");
     let q_len = plane
         .and_then(|p| p.components.first())
@@ -176,11 +176,11 @@ fn lowest_ordered(
     start: f64,
     opts: &PatternOptions,
 ) -> Result<Option<PatternState>, NumericalError> {
-    let ch = &model.channels[channel];
+    let ch = &model.channels()[channel];
     let n = qs.len();
     let mut best: Option<PatternState> = None;
     let mut failure = None;
-    let above = ch.cutoff / (1.0 / ch.lambda().max(1e-3)).sinh();
+    let above = ch.cutoff() / (1.0 / ch.lambda().max(1e-3)).sinh();
     for a in [above.max(1.5 * start), 1.5 * start, start].map(|a| a / (n as f64).sqrt()) {
         match solve_structure(model, channel, qs, phases, t, a, opts) {
             Ok(st) if !st.normal => {
@@ -208,7 +208,7 @@ fn structure_candidate(
     n: usize,
     scale: f64,
 ) -> StateCandidate {
-    let ns = ch.spin_channels;
+    let ns = ch.spin_channels();
     let mut notes = vec![format!(
         "m = {}: Omega(m+1) - Omega(m) = {:.1e} ({}), grid {:.1e}",
         st.order,

@@ -185,11 +185,11 @@ impl PatternSolver {
         line: &LinePoint,
         structures: &[Structure],
     ) -> Result<Vec<RankedStructure>, NumericalError> {
-        let ch = &model.channels[channel];
+        let ch = &model.channels()[channel];
         let t = line.t;
         let acc = self.tc.acc;
         let alpha_at = |q: [f64; 2]| -> Result<f64, NumericalError> {
-            Ok((1.0 - self.tc.g_chi(model, ch, q, t, &acc)?) / ch.g)
+            Ok((1.0 - self.tc.g_chi(model, ch, q, t, &acc)?) / ch.g())
         };
         let on_maxima = |q: &[f64; 2]| {
             if line.isotropic {
@@ -203,7 +203,7 @@ impl PatternSolver {
         let mut out = Vec::with_capacity(structures.len());
         for s in structures {
             if s.is_empty() {
-                return Err(NumericalError::Invalid(format!(
+                return Err(NumericalError::BadArgument(format!(
                     "structure {} has no wavevectors",
                     s.name
                 )));
