@@ -60,7 +60,7 @@
 //! cutoff = 5.0
 //! "#;
 //! let model = ConfigSource::from_text("nested pair", text)?.build(None)?;
-//! let channel = &model.channels[0];
+//! let channel = &model.channels()[0];
 //! let report = TcSolver::default().uniform(&model, channel)?;
 //! assert_eq!(report.status, TcStatus::Unstable);
 //!
