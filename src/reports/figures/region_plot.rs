@@ -1,0 +1,118 @@
+//! The region plot: a categorical phase diagram (shaded regions, transition lines, bands, special
+//! points and labels) with a boxed legend to the right.
+
+use super::axes::*;
+use super::canvas::*;
+use super::cells::*;
+use super::geometry::*;
+use super::legend::*;
+use super::marks::*;
+use super::output::*;
+use super::style::*;
+use super::RegionPlot;
+use plotters::prelude::DrawingBackend;
+use plotters::style::text_anchor::HPos;
+use plotters::style::{Color, RGBColor};
+
+impl RegionPlot {
+    pub(super) fn region_name(&self, k: usize) -> String {
+        match self.region_names.get(k) {
+            Some(n) if !n.is_empty() => n.clone(),
+            _ => format!("region {k}"),
+        }
+    }
+}
+
+impl Figure for RegionPlot {
+    fn size(&self) -> (u32, u32) {
+        (900, 650)
+    }
+
+    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
+        let (w, h) = c.dims();
+        let page = Rect::new(0.0, 0.0, w, h);
+        let top = draw_title(c, &self.title, page)?;
+        let (nx, ny) = (self.xs.len(), self.ys.len());
+        let empty = nx == 0 || ny == 0;
+        let GridGeometry { xe, ye, xr, yr } = grid_ranges(&self.xs, &self.ys);
+
+        let mut present: Vec<usize> = self.regions.iter().flatten().copied().collect();
+        present.sort_unstable();
+        present.dedup();
+        let mut entries: Vec<LegendEntry> = present
+            .iter()
+            .map(|&k| LegendEntry {
+                label: self.region_name(k),
+                swatch: Swatch::Fill(region_color(k)),
+            })
+            .collect();
+        if self.regions.iter().any(|r| r.is_none()) {
+            entries.push(LegendEntry {
+                label: "no solution".to_string(),
+                swatch: Swatch::Fill(FAILED_GREY),
+            });
+        }
+        entries.extend(series_entries(&self.series, false));
+        entries.extend(band_entries(&self.bands));
+        entries.extend(marker_entries(&self.markers, false));
+
+        let max_label_w = c.p(260.0);
+        let (lw, _) = legend_size(c, &entries, max_label_w);
+        let xt = AxisTicks::new(xr, 8);
+        let yt = AxisTicks::new(yr, 7);
+        let (left, below) = axes_room(c, &yt, &self.x_label, &self.y_label);
+        let mut r = w - c.p(PAD);
+        if !entries.is_empty() {
+            r -= lw + c.p(12.0);
+        }
+        let frame = Frame {
+            px: Rect::new(c.p(PAD) + left, top + c.p(8.0), r, h - c.p(PAD) - below),
+            x: xr,
+            y: yr,
+        };
+
+        c.fill_rect(frame.px, WHITE.to_rgba())?;
+        if !empty {
+            let colors: Vec<RGBColor> = self
+                .regions
+                .iter()
+                .map(|k| k.map_or(FAILED_GREY, region_color))
+                .collect();
+            draw_cells(c, &frame, &xe, &ye, &colors)?;
+        }
+        for b in &self.bands {
+            draw_band(c, &frame, b)?;
+        }
+        for s in &self.series {
+            draw_series(c, &frame, s, false)?;
+        }
+        for (i, m) in self.markers.iter().enumerate() {
+            if frame.inside(m.x, m.y) {
+                draw_marker(c, frame.map(m.x, m.y), i, line_color(m.color), false)?;
+            }
+        }
+        for (text, x, y) in &self.labels {
+            if text.is_empty() || !frame.inside(*x, *y) {
+                continue;
+            }
+            let p = frame.map(*x, *y);
+            let tw = c.text_width(text, 14.0, false);
+            let bx = Rect::new(
+                p.0 - tw / 2.0 - c.p(4.0),
+                p.1 - c.p(10.0),
+                p.0 + tw / 2.0 + c.p(4.0),
+                p.1 + c.p(10.0),
+            );
+            c.fill_rect(bx, rgba(WHITE, 0.7))?;
+            c.text(text, p.0, p.1, 14.0, false, HPos::Center, BLACK, Rot::None)?;
+        }
+        draw_axes(c, &frame, &xt, &yt, &self.x_label, &self.y_label)?;
+        if empty {
+            draw_no_data(c, &frame, "no grid points")?;
+        }
+        if !entries.is_empty() {
+            draw_legend_box(c, &entries, r + c.p(12.0), frame.px.t, max_label_w)?;
+        }
+        Ok(())
+    }
+}
