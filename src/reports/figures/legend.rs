@@ -195,6 +195,14 @@ pub(super) fn series_entries(series: &[Series], halo: bool) -> Vec<LegendEntry> 
         .collect()
 }
 
+/// The legend entry of grey cells (failed points, no solution).
+pub(super) fn failed_entry(label: &str) -> LegendEntry {
+    LegendEntry {
+        label: label.to_string(),
+        swatch: Swatch::Fill(FAILED_GREY),
+    }
+}
+
 pub(super) fn band_entries(bands: &[Band]) -> Vec<LegendEntry> {
     bands
         .iter()

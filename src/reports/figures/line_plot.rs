@@ -89,26 +89,64 @@ impl LinePlot {
     }
 }
 
-impl Figure for LinePlot {
-    fn size(&self) -> (u32, u32) {
-        (900, 650)
-    }
+/// Largest legend label width, logical pixels.
+const MAX_LABEL_W: f64 = 300.0;
 
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
-        let (w, h) = c.dims();
-        let page = Rect::new(0.0, 0.0, w, h);
-        let top = draw_title(c, &self.title, page)?;
+/// Where the parts of a line plot go (device pixels), decided before anything is drawn.
+struct LineLayout {
+    frame: Frame,
+    xt: AxisTicks,
+    yt: AxisTicks,
+    /// Data spans beyond the f64 range (values near f64::MAX): nothing can be mapped to pixels.
+    too_large: bool,
+    /// Nothing to plot (no finite data, or `too_large`).
+    empty: bool,
+    entries: Vec<LegendEntry>,
+    notes: Vec<String>,
+    /// The x of a legend too tall for the frame, drawn outside to its right.
+    legend_outside: Option<f64>,
+    /// Top-left corners of the boxes inside the frame: the legend (unless outside), then notes.
+    spots: Vec<(f64, f64)>,
+    notes_max_w: f64,
+}
+
+impl LinePlot {
+    /// Data ranges of both axes, and whether their spans overflow (then both are `(0, 1)`).
+    fn ranges(&self) -> ((f64, f64), (f64, f64), bool, bool) {
         let (ex, ey) = self.extents();
         let xpad = if self.markers.is_empty() { 0.0 } else { 0.03 };
         let mut xr = ex.range(xpad);
         let mut yr = ey.range(0.06);
-        // Spans beyond the f64 range (values near f64::MAX) cannot be mapped to pixels.
         let too_large = !(xr.1 - xr.0).is_finite() || !(yr.1 - yr.0).is_finite();
         if too_large {
             (xr, yr) = ((0.0, 1.0), (0.0, 1.0));
         }
-        let empty = ex.is_empty() || too_large;
+        (xr, yr, too_large, ex.is_empty() || too_large)
+    }
 
+    /// The plot rectangle for given ranges and right edge (the y tick labels set the left
+    /// margin), below `top`.
+    fn frame<DB: DrawingBackend>(
+        &self,
+        c: &Canvas<'_, DB>,
+        (xr, yr): ((f64, f64), (f64, f64)),
+        top: f64,
+        right: f64,
+    ) -> (Frame, AxisTicks, AxisTicks) {
+        let (_, h) = c.dims();
+        let xt = AxisTicks::new(xr, 8);
+        let yt = AxisTicks::new(yr, 7);
+        let (left, below) = axes_room(c, &yt, &self.x_label, &self.y_label);
+        let px = Rect::new(c.p(PAD) + left, top + c.p(8.0), right, h - c.p(PAD) - below);
+        (Frame { px, x: xr, y: yr }, xt, yt)
+    }
+
+    /// Lays the plot out below `top`: the frame, the legend (outside when very tall) and the
+    /// notes, placed where they cover the least data; when they must cover some, the y range is
+    /// extended to make room for them at the top.
+    fn layout<DB: DrawingBackend>(&self, c: &Canvas<'_, DB>, top: f64) -> LineLayout {
+        let (w, _) = c.dims();
+        let (xr, mut yr, too_large, empty) = self.ranges();
         let entries = self.legend();
         let notes: Vec<String> = self
             .notes
@@ -116,25 +154,13 @@ impl Figure for LinePlot {
             .filter(|n| !n.trim().is_empty())
             .cloned()
             .collect();
-        let max_label_w = c.p(300.0);
-
-        // The plot rectangle for a given y range (the y tick labels set the left margin).
         let mut right = w - c.p(PAD + 6.0);
-        let frame_for = |yr: (f64, f64), right: f64| -> (Frame, AxisTicks, AxisTicks) {
-            let xt = AxisTicks::new(xr, 8);
-            let yt = AxisTicks::new(yr, 7);
-            let (left, below) = axes_room(c, &yt, &self.x_label, &self.y_label);
-            let px = Rect::new(c.p(PAD) + left, top + c.p(8.0), right, h - c.p(PAD) - below);
-            (Frame { px, x: xr, y: yr }, xt, yt)
-        };
-        let (mut frame, mut xt, mut yt) = frame_for(yr, right);
-
-        // A very tall legend goes outside, to the right of the plot.
-        let (lw, lh) = legend_size(c, &entries, max_label_w);
+        let (mut frame, mut xt, mut yt) = self.frame(c, (xr, yr), top, right);
+        let (lw, lh) = legend_size(c, &entries, c.p(MAX_LABEL_W));
         let outside = !entries.is_empty() && lh > 0.6 * frame.px.h();
         if outside {
             right -= lw + c.p(GAP + 4.0);
-            (frame, xt, yt) = frame_for(yr, right);
+            (frame, xt, yt) = self.frame(c, (xr, yr), top, right);
         }
         let mut sizes = Vec::new();
         if !entries.is_empty() && !outside {
@@ -144,68 +170,88 @@ impl Figure for LinePlot {
         if !notes.is_empty() {
             sizes.push(notes_size(c, &notes, notes_max_w));
         }
-        let inset = c.p(8.0);
-        let margin = c.p(3.0);
-        let step = c.p(3.0);
+        let (inset, margin, step) = (c.p(8.0), c.p(3.0), c.p(3.0));
         let (mut spots, free) =
             place_boxes(&frame, &sizes, &self.samples(&frame, step), inset, margin);
         if !free && !empty && !sizes.is_empty() {
-            // Make room above the data: extend the y range so that the boxes fit at the top.
-            let side_by_side = sizes.iter().map(|s| s.0).sum::<f64>()
-                + inset * (sizes.len() as f64 + 1.0)
-                <= frame.px.w();
-            let need = if side_by_side {
-                sizes.iter().map(|s| s.1).fold(0.0, f64::max)
-            } else {
-                sizes.iter().map(|s| s.1).sum::<f64>() + inset
-            } + 2.0 * inset;
             let ph = frame.px.h();
-            let need = need.min(0.5 * ph);
+            let need = room_for_boxes(&sizes, inset, frame.px.w()).min(0.5 * ph);
             yr.1 = yr.0 + (yr.1 - yr.0) * ph / (ph - need);
-            (frame, xt, yt) = frame_for(yr, right);
+            (frame, xt, yt) = self.frame(c, (xr, yr), top, right);
             spots = place_boxes(&frame, &sizes, &self.samples(&frame, step), inset, margin).0;
         }
+        LineLayout {
+            frame,
+            xt,
+            yt,
+            too_large,
+            empty,
+            entries,
+            notes,
+            legend_outside: outside.then(|| right + c.p(GAP + 4.0)),
+            spots,
+            notes_max_w,
+        }
+    }
+}
 
-        draw_grid(c, &frame, &xt, &yt)?;
-        let (bands, series, markers) = if too_large {
-            (&[][..], &[][..], &[][..])
-        } else {
-            (&self.bands[..], &self.series[..], &self.markers[..])
+/// Height (device pixels) to free at the top of a frame `frame_w` wide so that boxes of the
+/// given sizes fit there: side by side when they fit across, else stacked.
+fn room_for_boxes(sizes: &[(f64, f64)], inset: f64, frame_w: f64) -> f64 {
+    let side_by_side =
+        sizes.iter().map(|s| s.0).sum::<f64>() + inset * (sizes.len() as f64 + 1.0) <= frame_w;
+    (if side_by_side {
+        sizes.iter().map(|s| s.1).fold(0.0, f64::max)
+    } else {
+        sizes.iter().map(|s| s.1).sum::<f64>() + inset
+    }) + 2.0 * inset
+}
+
+/// Draws the legend and the notes of a laid-out line plot.
+fn draw_boxes<DB: DrawingBackend>(c: &Canvas<'_, DB>, lay: &LineLayout) -> DrawResult {
+    let max_label_w = c.p(MAX_LABEL_W);
+    let mut spots = lay.spots.iter();
+    if !lay.entries.is_empty() {
+        let (x, y) = match lay.legend_outside {
+            Some(x) => (x, lay.frame.px.t),
+            None => *spots.next().expect("a spot per box"),
         };
-        for b in bands {
-            draw_band(c, &frame, b)?;
-        }
-        for s in series {
-            draw_series(c, &frame, s, false)?;
-        }
-        for (i, m) in markers.iter().enumerate() {
-            if frame.inside(m.x, m.y) {
-                draw_marker(c, frame.map(m.x, m.y), i, line_color(m.color), false)?;
+        draw_legend_box(c, &lay.entries, x, y, max_label_w)?;
+    }
+    if !lay.notes.is_empty() {
+        let &(x, y) = spots.next().expect("a spot per box");
+        draw_notes(c, &lay.notes, x, y, lay.notes_max_w)?;
+    }
+    Ok(())
+}
+
+impl Figure for LinePlot {
+    fn size(&self) -> (u32, u32) {
+        (900, 650)
+    }
+
+    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
+        let (w, h) = c.dims();
+        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
+        let lay = self.layout(c, top);
+        let frame = &lay.frame;
+        draw_grid(c, frame, &lay.xt, &lay.yt)?;
+        if !lay.too_large {
+            for b in &self.bands {
+                draw_band(c, frame, b)?;
             }
+            draw_all_series(c, frame, &self.series, false)?;
+            draw_markers(c, frame, &self.markers, false)?;
         }
-        draw_axes(c, &frame, &xt, &yt, &self.x_label, &self.y_label)?;
-        if empty {
-            let what = if too_large {
+        draw_axes(c, frame, &lay.xt, &lay.yt, &self.x_label, &self.y_label)?;
+        if lay.empty {
+            let what = if lay.too_large {
                 "values too large to plot"
             } else {
                 "no finite data"
             };
-            draw_no_data(c, &frame, what)?;
+            draw_no_data(c, frame, what)?;
         }
-        let mut k = 0;
-        if !entries.is_empty() {
-            if outside {
-                draw_legend_box(c, &entries, right + c.p(GAP + 4.0), frame.px.t, max_label_w)?;
-            } else {
-                let (x, y) = spots[k];
-                k += 1;
-                draw_legend_box(c, &entries, x, y, max_label_w)?;
-            }
-        }
-        if !notes.is_empty() {
-            let (x, y) = spots[k];
-            draw_notes(c, &notes, x, y, notes_max_w)?;
-        }
-        Ok(())
+        draw_boxes(c, &lay)
     }
 }

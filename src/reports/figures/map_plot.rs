@@ -13,6 +13,56 @@ use super::MapPlot;
 use plotters::prelude::DrawingBackend;
 use plotters::style::{Color, RGBColor};
 
+impl MapPlot {
+    /// Whether any cell is outlined.
+    fn has_outline(&self) -> bool {
+        self.outline.iter().any(|b| *b)
+    }
+
+    /// Legend entries: the outlined region, failed points, curves, markers.
+    fn legend(&self) -> Vec<LegendEntry> {
+        let mut entries = Vec::new();
+        if self.has_outline() && !self.outline_label.is_empty() {
+            entries.push(LegendEntry {
+                label: self.outline_label.clone(),
+                swatch: Swatch::Outline,
+            });
+        }
+        if self.values.iter().any(|v| finite(v).is_none()) {
+            entries.push(failed_entry("failed point"));
+        }
+        entries.extend(series_entries(&self.series, true));
+        entries.extend(marker_entries(&self.markers, true));
+        entries
+    }
+
+    /// The cells in their colours, and the outlined region over them.
+    fn draw_grid_cells<DB: DrawingBackend>(
+        &self,
+        c: &Canvas<'_, DB>,
+        frame: &Frame,
+        geometry: &GridGeometry,
+        scale: &Scale,
+    ) -> DrawResult {
+        let colors: Vec<RGBColor> = self
+            .values
+            .iter()
+            .map(|v| finite(v).map_or(FAILED_GREY, |x| scale.color(x)))
+            .collect();
+        let (xe, ye) = (&geometry.xe, &geometry.ye);
+        draw_cells(c, frame, xe, ye, &colors)?;
+        if self.has_outline() {
+            draw_mask(c, frame, xe, ye, &self.outline, &colors)?;
+        }
+        Ok(())
+    }
+}
+
+/// A finite value of a cell; `None` for a failed or non-finite one.
+fn finite(v: &Option<f64>) -> Option<f64> {
+    v.filter(|x| x.is_finite())
+}
+
 impl Figure for MapPlot {
     fn size(&self) -> (u32, u32) {
         (900, 650)
@@ -20,33 +70,15 @@ impl Figure for MapPlot {
 
     fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
         let (w, h) = c.dims();
-        let page = Rect::new(0.0, 0.0, w, h);
-        let top = draw_title(c, &self.title, page)?;
-        let (nx, ny) = (self.xs.len(), self.ys.len());
-        let empty = nx == 0 || ny == 0;
-        let finite = |v: &Option<f64>| v.filter(|x| x.is_finite());
+        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
+        let empty = self.xs.is_empty() || self.ys.is_empty();
         let scale = Scale::from_values(self.values.iter().filter_map(finite));
-        let GridGeometry { xe, ye, xr, yr } = grid_ranges(&self.xs, &self.ys);
+        let geometry = grid_ranges(&self.xs, &self.ys);
+        let entries = self.legend();
 
-        let mut entries = Vec::new();
-        let has_outline = self.outline.iter().any(|b| *b);
-        if has_outline && !self.outline_label.is_empty() {
-            entries.push(LegendEntry {
-                label: self.outline_label.clone(),
-                swatch: Swatch::Outline,
-            });
-        }
-        if self.values.iter().any(|v| finite(v).is_none()) {
-            entries.push(LegendEntry {
-                label: "failed point".to_string(),
-                swatch: Swatch::Fill(FAILED_GREY),
-            });
-        }
-        entries.extend(series_entries(&self.series, true));
-        entries.extend(marker_entries(&self.markers, true));
-
-        let xt = AxisTicks::new(xr, 8);
-        let yt = AxisTicks::new(yr, 7);
+        // The legend flows in a strip above the frame, the colour bar sits to its right.
+        let xt = AxisTicks::new(geometry.xr, 8);
+        let yt = AxisTicks::new(geometry.yr, 7);
         let (left, below) = axes_room(c, &yt, &self.x_label, &self.y_label);
         let l = c.p(PAD) + left;
         let r = w - c.p(PAD) - colorbar_room(c, &scale, &self.colorbar_label);
@@ -59,30 +91,16 @@ impl Figure for MapPlot {
         };
         let frame = Frame {
             px: Rect::new(l, t, r, h - c.p(PAD) - below),
-            x: xr,
-            y: yr,
+            x: geometry.xr,
+            y: geometry.yr,
         };
 
         c.fill_rect(frame.px, WHITE.to_rgba())?;
         if !empty {
-            let colors: Vec<RGBColor> = self
-                .values
-                .iter()
-                .map(|v| finite(v).map_or(FAILED_GREY, |x| scale.color(x)))
-                .collect();
-            draw_cells(c, &frame, &xe, &ye, &colors)?;
-            if has_outline {
-                draw_mask(c, &frame, &xe, &ye, &self.outline, &colors)?;
-            }
+            self.draw_grid_cells(c, &frame, &geometry, &scale)?;
         }
-        for s in &self.series {
-            draw_series(c, &frame, s, true)?;
-        }
-        for (i, m) in self.markers.iter().enumerate() {
-            if frame.inside(m.x, m.y) {
-                draw_marker(c, frame.map(m.x, m.y), i, line_color(m.color), true)?;
-            }
-        }
+        draw_all_series(c, &frame, &self.series, true)?;
+        draw_markers(c, &frame, &self.markers, true)?;
         draw_axes(c, &frame, &xt, &yt, &self.x_label, &self.y_label)?;
         draw_colorbar(c, &frame.px, &scale, &self.colorbar_label)?;
         if empty {

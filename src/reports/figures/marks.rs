@@ -4,7 +4,7 @@ use super::canvas::*;
 use super::geometry::*;
 use super::output::*;
 use super::style::*;
-use super::{Band, Dash, Series};
+use super::{Band, Dash, Marker, Series};
 use plotters::prelude::DrawingBackend;
 use plotters::style::{Color, RGBColor};
 
@@ -103,6 +103,34 @@ pub(super) fn draw_band<DB: DrawingBackend>(c: &Canvas<'_, DB>, f: &Frame, b: &B
         for piece in clip_polyline(curve, f) {
             let px: Vec<(f64, f64)> = piece.iter().map(|p| f.map(p.0, p.1)).collect();
             c.path(&px, rgba(color, 0.9), 1.2, Dash::Solid)?;
+        }
+    }
+    Ok(())
+}
+
+/// The curves of a plot, in order (see [`draw_series`]).
+pub(super) fn draw_all_series<DB: DrawingBackend>(
+    c: &Canvas<'_, DB>,
+    f: &Frame,
+    series: &[Series],
+    halo: bool,
+) -> DrawResult {
+    for s in series {
+        draw_series(c, f, s, halo)?;
+    }
+    Ok(())
+}
+
+/// The markers inside the frame; the shape follows the position in the list.
+pub(super) fn draw_markers<DB: DrawingBackend>(
+    c: &Canvas<'_, DB>,
+    f: &Frame,
+    markers: &[Marker],
+    halo: bool,
+) -> DrawResult {
+    for (i, m) in markers.iter().enumerate() {
+        if f.inside(m.x, m.y) {
+            draw_marker(c, f.map(m.x, m.y), i, line_color(m.color), halo)?;
         }
     }
     Ok(())

@@ -14,6 +14,11 @@ use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;
 use plotters::style::{Color, RGBColor};
 
+/// Largest legend label width, logical pixels.
+const MAX_LABEL_W: f64 = 260.0;
+/// Font size of the text labels inside the regions, logical pixels.
+const LABEL_TEXT_SIZE: f64 = 14.0;
+
 impl RegionPlot {
     pub(super) fn region_name(&self, k: usize) -> String {
         match self.region_names.get(k) {
@@ -21,21 +26,10 @@ impl RegionPlot {
             _ => format!("region {k}"),
         }
     }
-}
 
-impl Figure for RegionPlot {
-    fn size(&self) -> (u32, u32) {
-        (900, 650)
-    }
-
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
-        let (w, h) = c.dims();
-        let page = Rect::new(0.0, 0.0, w, h);
-        let top = draw_title(c, &self.title, page)?;
-        let (nx, ny) = (self.xs.len(), self.ys.len());
-        let empty = nx == 0 || ny == 0;
-        let GridGeometry { xe, ye, xr, yr } = grid_ranges(&self.xs, &self.ys);
-
+    /// Legend entries: the regions present (in index order), cells without a solution, lines,
+    /// bands, markers.
+    fn legend(&self) -> Vec<LegendEntry> {
         let mut present: Vec<usize> = self.regions.iter().flatten().copied().collect();
         present.sort_unstable();
         present.dedup();
@@ -47,16 +41,50 @@ impl Figure for RegionPlot {
             })
             .collect();
         if self.regions.iter().any(|r| r.is_none()) {
-            entries.push(LegendEntry {
-                label: "no solution".to_string(),
-                swatch: Swatch::Fill(FAILED_GREY),
-            });
+            entries.push(failed_entry("no solution"));
         }
         entries.extend(series_entries(&self.series, false));
         entries.extend(band_entries(&self.bands));
         entries.extend(marker_entries(&self.markers, false));
+        entries
+    }
 
-        let max_label_w = c.p(260.0);
+    /// The text labels inside the frame, each on a light box.
+    fn draw_labels<DB: DrawingBackend>(&self, c: &Canvas<'_, DB>, frame: &Frame) -> DrawResult {
+        for (text, x, y) in &self.labels {
+            if text.is_empty() || !frame.inside(*x, *y) {
+                continue;
+            }
+            let p = frame.map(*x, *y);
+            let tw = c.text_width(text, LABEL_TEXT_SIZE, false);
+            let bx = Rect::new(
+                p.0 - tw / 2.0 - c.p(4.0),
+                p.1 - c.p(10.0),
+                p.0 + tw / 2.0 + c.p(4.0),
+                p.1 + c.p(10.0),
+            );
+            c.fill_rect(bx, rgba(WHITE, 0.7))?;
+            let size = LABEL_TEXT_SIZE;
+            c.text(text, p.0, p.1, size, false, HPos::Center, BLACK, Rot::None)?;
+        }
+        Ok(())
+    }
+}
+
+impl Figure for RegionPlot {
+    fn size(&self) -> (u32, u32) {
+        (900, 650)
+    }
+
+    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
+        let (w, h) = c.dims();
+        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
+        let empty = self.xs.is_empty() || self.ys.is_empty();
+        let GridGeometry { xe, ye, xr, yr } = grid_ranges(&self.xs, &self.ys);
+        let entries = self.legend();
+
+        // The legend box sits to the right of the frame.
+        let max_label_w = c.p(MAX_LABEL_W);
         let (lw, _) = legend_size(c, &entries, max_label_w);
         let xt = AxisTicks::new(xr, 8);
         let yt = AxisTicks::new(yr, 7);
@@ -83,29 +111,9 @@ impl Figure for RegionPlot {
         for b in &self.bands {
             draw_band(c, &frame, b)?;
         }
-        for s in &self.series {
-            draw_series(c, &frame, s, false)?;
-        }
-        for (i, m) in self.markers.iter().enumerate() {
-            if frame.inside(m.x, m.y) {
-                draw_marker(c, frame.map(m.x, m.y), i, line_color(m.color), false)?;
-            }
-        }
-        for (text, x, y) in &self.labels {
-            if text.is_empty() || !frame.inside(*x, *y) {
-                continue;
-            }
-            let p = frame.map(*x, *y);
-            let tw = c.text_width(text, 14.0, false);
-            let bx = Rect::new(
-                p.0 - tw / 2.0 - c.p(4.0),
-                p.1 - c.p(10.0),
-                p.0 + tw / 2.0 + c.p(4.0),
-                p.1 + c.p(10.0),
-            );
-            c.fill_rect(bx, rgba(WHITE, 0.7))?;
-            c.text(text, p.0, p.1, 14.0, false, HPos::Center, BLACK, Rot::None)?;
-        }
+        draw_all_series(c, &frame, &self.series, false)?;
+        draw_markers(c, &frame, &self.markers, false)?;
+        self.draw_labels(c, &frame)?;
         draw_axes(c, &frame, &xt, &yt, &self.x_label, &self.y_label)?;
         if empty {
             draw_no_data(c, &frame, "no grid points")?;
