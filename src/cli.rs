@@ -702,7 +702,8 @@ fn run_pattern(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Out
         unpaired_correlation: unpaired,
     };
     let stem = format!("pattern_{}", ch.label);
-    let written = write_pattern(&report, &a.out, &stem).map_err(Failure::Input)?;
+    let written =
+        write_pattern(&report, &a.out, &stem).map_err(|e| Failure::Input(e.to_string()))?;
     if a.json {
         print_json(&pattern_json(&report));
     } else {
@@ -806,7 +807,7 @@ fn run_phases(
     }
     let stem = format!("phases_{}", model.channels[channel].label);
     let written = nestor::reports::phases::write_phases(src, model, grid, &d, &a.out, &stem)
-        .map_err(Failure::Input)?;
+        .map_err(|e| Failure::Input(e.to_string()))?;
     for w in &written {
         println!("wrote {}", w.display());
     }
@@ -907,7 +908,7 @@ fn run_scan(
     let progress = std::io::stderr().is_terminal();
     let points = scan_tc(src, model, grid, s, method, threads, progress)?;
     let written = scan_report::write_scan(src, model, grid, &points, method, out, stem)
-        .map_err(Failure::Input)?;
+        .map_err(|e| Failure::Input(e.to_string()))?;
     for w in &written {
         println!("wrote {}", w.display());
     }
