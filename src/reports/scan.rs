@@ -149,9 +149,12 @@ pub(crate) fn kelvin_or_nan(t: f64) -> f64 {
     }
 }
 
+/// Points `(parameter, T in K)` of a curve.
+type Curve = Vec<(f64, f64)>;
+
 /// Tc of channel `c` along a 1D scan: the uniform and the modulated curves (K, NaN where absent
 /// or failed).
-fn tc_curves(points: &[ScanPoint], c: usize) -> (Vec<(f64, f64)>, Vec<(f64, f64)>) {
+fn tc_curves(points: &[ScanPoint], c: usize) -> (Curve, Curve) {
     points
         .iter()
         .map(|p| {
