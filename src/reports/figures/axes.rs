@@ -82,11 +82,7 @@ pub(super) fn axes_room<DB: DrawingBackend>(
     x_label: &str,
     y_label: &str,
 ) -> (f64, f64) {
-    let tick_w = yt
-        .labels
-        .iter()
-        .map(|l| c.text_width(l, TICK_SIZE, false))
-        .fold(0.0, f64::max);
+    let tick_w = c.widest(&yt.labels, TICK_SIZE, f64::INFINITY);
     let mut left = c.p(TICK_LEN + GAP) + tick_w;
     if !y_label.is_empty() {
         left += c.p(GAP + 2.0) + c.p(LABEL_SIZE) * 0.9;

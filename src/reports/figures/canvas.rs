@@ -213,6 +213,20 @@ impl<'a, DB: DrawingBackend> Canvas<'a, DB> {
         }
     }
 
+    /// Width in device pixels of the widest of `texts` at logical font size `size` (regular),
+    /// each capped at `cap` device pixels; 0 for none.
+    pub(super) fn widest<'t>(
+        &self,
+        texts: impl IntoIterator<Item = &'t String>,
+        size: f64,
+        cap: f64,
+    ) -> f64 {
+        texts
+            .into_iter()
+            .map(|t| self.text_width(t, size, false).min(cap))
+            .fold(0.0, f64::max)
+    }
+
     /// Cap height of digits and capitals, device pixels (for vertical layout).
     pub(super) fn cap(&self, size: f64) -> f64 {
         self.p(size) * 0.63

@@ -22,11 +22,7 @@ pub(super) fn colorbar_room<DB: DrawingBackend>(
     label: &str,
 ) -> f64 {
     let t = AxisTicks::new((scale.lo, scale.hi), 6);
-    let tw = t
-        .labels
-        .iter()
-        .map(|l| c.text_width(l, TICK_SIZE, false))
-        .fold(0.0, f64::max);
+    let tw = c.widest(&t.labels, TICK_SIZE, f64::INFINITY);
     let mut w = c.p(CBAR_GAP + CBAR_W + TICK_LEN + GAP) + tw;
     if !label.is_empty() {
         w += c.p(GAP + 4.0) + c.p(LABEL_SIZE) * 0.9;
@@ -203,6 +199,38 @@ pub(super) fn cell_rect(f: &Frame, xe: &[f64], ye: &[f64], ix: usize, iy: usize)
     )
 }
 
+/// Runs of consecutive cells along each row with the same `Some` key: `(iy, first ix, last ix,
+/// key)`; cells whose key is `None` are left out.
+fn row_runs<K: PartialEq + Copy>(
+    nx: usize,
+    ny: usize,
+    key: impl Fn(usize) -> Option<K>,
+) -> Vec<(usize, usize, usize, K)> {
+    let mut runs = Vec::new();
+    for iy in 0..ny {
+        let mut ix = 0;
+        while ix < nx {
+            let Some(k) = key(iy * nx + ix) else {
+                ix += 1;
+                continue;
+            };
+            let start = ix;
+            while ix < nx && key(iy * nx + ix) == Some(k) {
+                ix += 1;
+            }
+            runs.push((iy, start, ix - 1, k));
+        }
+    }
+    runs
+}
+
+/// Device rectangle covering the cells `first..=last` of row `iy`.
+fn run_rect(f: &Frame, xe: &[f64], ye: &[f64], iy: usize, first: usize, last: usize) -> Rect {
+    let a = cell_rect(f, xe, ye, first, iy);
+    let b = cell_rect(f, xe, ye, last, iy);
+    Rect::new(a.l.min(b.l), a.t, a.r.max(b.r), a.b)
+}
+
 /// Fills grid cells, merging runs of equal colour along rows.
 pub(super) fn draw_cells<DB: DrawingBackend>(
     c: &Canvas<'_, DB>,
@@ -211,21 +239,10 @@ pub(super) fn draw_cells<DB: DrawingBackend>(
     ye: &[f64],
     colors: &[RGBColor],
 ) -> DrawResult {
-    let nx = xe.len() - 1;
-    let ny = ye.len() - 1;
-    for iy in 0..ny {
-        let mut ix = 0;
-        while ix < nx {
-            let col = colors[iy * nx + ix];
-            let start = ix;
-            while ix < nx && colors[iy * nx + ix] == col {
-                ix += 1;
-            }
-            let a = cell_rect(f, xe, ye, start, iy);
-            let b = cell_rect(f, xe, ye, ix - 1, iy);
-            let r = Rect::new(a.l.min(b.l), a.t, a.r.max(b.r), a.b);
-            c.fill_tile(r, col.to_rgba(), &f.px)?;
-        }
+    let (nx, ny) = (xe.len() - 1, ye.len() - 1);
+    for (iy, first, last, col) in row_runs(nx, ny, |k| Some(colors[k])) {
+        let r = run_rect(f, xe, ye, iy, first, last);
+        c.fill_tile(r, col.to_rgba(), &f.px)?;
     }
     Ok(())
 }
@@ -239,26 +256,10 @@ pub(super) fn draw_mask<DB: DrawingBackend>(
     mask: &[bool],
     colors: &[RGBColor],
 ) -> DrawResult {
-    let nx = xe.len() - 1;
-    let ny = ye.len() - 1;
+    let (nx, ny) = (xe.len() - 1, ye.len() - 1);
     let hatch: Vec<RGBAColor> = colors.iter().map(|c| hatch_color(*c)).collect();
-    for iy in 0..ny {
-        let mut ix = 0;
-        while ix < nx {
-            let k = iy * nx + ix;
-            if !mask[k] {
-                ix += 1;
-                continue;
-            }
-            let start = ix;
-            while ix < nx && mask[iy * nx + ix] && hatch[iy * nx + ix] == hatch[k] {
-                ix += 1;
-            }
-            let a = cell_rect(f, xe, ye, start, iy);
-            let b = cell_rect(f, xe, ye, ix - 1, iy);
-            let r = Rect::new(a.l.min(b.l), a.t, a.r.max(b.r), a.b);
-            hatch_rect(c, r, hatch[k])?;
-        }
+    for (iy, first, last, color) in row_runs(nx, ny, |k| mask[k].then_some(hatch[k])) {
+        hatch_rect(c, run_rect(f, xe, ye, iy, first, last), color)?;
     }
     let chains = mask_contours(mask, nx, ny);
     let px: Vec<Vec<(f64, f64)>> = chains
@@ -282,6 +283,14 @@ pub(super) struct GridGeometry {
     pub(super) yr: (f64, f64),
 }
 
+impl GridGeometry {
+    /// Whether the grid has no cells (an axis without points).
+    pub(super) fn is_empty(&self) -> bool {
+        self.xe.is_empty() || self.ye.is_empty()
+    }
+}
+
+/// Cell edges and data ranges of a grid with cell centres `xs` × `ys`.
 pub(super) fn grid_ranges(xs: &[f64], ys: &[f64]) -> GridGeometry {
     let xe = cell_edges(xs);
     let ye = cell_edges(ys);

@@ -260,13 +260,13 @@ fn draw_corner_note<DB: DrawingBackend>(c: &Canvas<'_, DB>, f: &Frame, note: &st
 }
 
 impl Figure for DensityPlot {
-    fn size(&self) -> (u32, u32) {
-        (1300, 600)
+    const SIZE: (u32, u32) = (1300, 600);
+
+    fn title(&self) -> &str {
+        &self.title
     }
 
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
-        let (w, h) = c.dims();
-        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
+    fn draw_body<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>, top: f64) -> DrawResult {
         let scale = Scale::from_values(self.density.iter().copied());
         let panels = self.panels(c, top, &scale);
         let t = panels.map.px.t;

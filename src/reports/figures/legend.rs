@@ -90,10 +90,7 @@ pub(super) fn legend_size<DB: DrawingBackend>(
     entries: &[LegendEntry],
     max_label_w: f64,
 ) -> (f64, f64) {
-    let label_w = entries
-        .iter()
-        .map(|e| c.text_width(&e.label, LEGEND_SIZE, false).min(max_label_w))
-        .fold(0.0, f64::max);
+    let label_w = c.widest(entries.iter().map(|e| &e.label), LEGEND_SIZE, max_label_w);
     (
         c.p(2.0 * LEGEND_PAD + SWATCH_W + GAP) + label_w,
         c.p(2.0 * LEGEND_PAD - 6.0 + LEGEND_ROW * entries.len() as f64),
@@ -108,27 +105,49 @@ pub(super) fn draw_legend_box<DB: DrawingBackend>(
     y: f64,
     max_label_w: f64,
 ) -> DrawResult {
-    let (w, h) = legend_size(c, entries, max_label_w);
-    let r = Rect::new(x, y, x + w, y + h);
-    c.fill_rect(r, rgba(WHITE, 0.9))?;
-    c.stroke_rect(r, RGBColor(160, 160, 160).to_rgba(), 1.0)?;
+    let size = legend_size(c, entries, max_label_w);
+    draw_box(c, (x, y), size, RGBColor(160, 160, 160))?;
     for (i, e) in entries.iter().enumerate() {
         let yc = y + c.p(LEGEND_PAD - 3.0 + LEGEND_ROW * (i as f64 + 0.5));
-        let sx = x + c.p(LEGEND_PAD);
-        draw_swatch(c, e.swatch, sx, yc)?;
-        let label = fit_text(c, &e.label, LEGEND_SIZE, false, max_label_w);
-        c.text(
-            &label,
-            sx + c.p(SWATCH_W + GAP),
-            yc,
-            LEGEND_SIZE,
-            false,
-            HPos::Left,
-            BLACK,
-            Rot::None,
-        )?;
+        draw_entry(c, e, x + c.p(LEGEND_PAD), yc, max_label_w)?;
     }
     Ok(())
+}
+
+/// A light box (90% white) with a thin border, top-left corner at `at`, `size` device pixels.
+fn draw_box<DB: DrawingBackend>(
+    c: &Canvas<'_, DB>,
+    at: (f64, f64),
+    size: (f64, f64),
+    border: RGBColor,
+) -> DrawResult {
+    let r = Rect::new(at.0, at.1, at.0 + size.0, at.1 + size.1);
+    c.fill_rect(r, rgba(WHITE, 0.9))?;
+    c.stroke_rect(r, border.to_rgba(), 1.0)
+}
+
+/// One legend entry: the swatch from `x`, the label (at most `max_label_w` wide) after it,
+/// both centred on `yc`.
+fn draw_entry<DB: DrawingBackend>(
+    c: &Canvas<'_, DB>,
+    e: &LegendEntry,
+    x: f64,
+    yc: f64,
+    max_label_w: f64,
+) -> DrawResult {
+    draw_swatch(c, e.swatch, x, yc)?;
+    let label = fit_text(c, &e.label, LEGEND_SIZE, false, max_label_w);
+    let lx = x + c.p(SWATCH_W + GAP);
+    c.text(
+        &label,
+        lx,
+        yc,
+        LEGEND_SIZE,
+        false,
+        HPos::Left,
+        BLACK,
+        Rot::None,
+    )
 }
 
 /// Lays legend entries out in rows across `width`; returns their top-left offsets (relative to
@@ -164,18 +183,7 @@ pub(super) fn draw_legend_flow<DB: DrawingBackend>(
     let (pos, _) = legend_flow(c, entries, width);
     for (e, (dx, dy)) in entries.iter().zip(pos) {
         let yc = y + dy + c.p(LEGEND_ROW) / 2.0;
-        draw_swatch(c, e.swatch, x + dx, yc)?;
-        let label = fit_text(c, &e.label, LEGEND_SIZE, false, width - c.p(SWATCH_W + GAP));
-        c.text(
-            &label,
-            x + dx + c.p(SWATCH_W + GAP),
-            yc,
-            LEGEND_SIZE,
-            false,
-            HPos::Left,
-            BLACK,
-            Rot::None,
-        )?;
+        draw_entry(c, e, x + dx, yc, width - c.p(SWATCH_W + GAP))?;
     }
     Ok(())
 }
@@ -282,16 +290,14 @@ pub(super) fn notes_size<DB: DrawingBackend>(
     notes: &[String],
     max_w: f64,
 ) -> (f64, f64) {
-    let w = notes
-        .iter()
-        .map(|n| c.text_width(n, NOTE_SIZE, false).min(max_w))
-        .fold(0.0, f64::max);
+    let w = c.widest(notes, NOTE_SIZE, max_w);
     (
         w + c.p(2.0 * LEGEND_PAD),
         c.p(2.0 * LEGEND_PAD - 4.0 + 17.0 * notes.len() as f64),
     )
 }
 
+/// A box of note lines (grey text) with its top-left corner at `(x, y)`.
 pub(super) fn draw_notes<DB: DrawingBackend>(
     c: &Canvas<'_, DB>,
     notes: &[String],
@@ -299,16 +305,19 @@ pub(super) fn draw_notes<DB: DrawingBackend>(
     y: f64,
     max_w: f64,
 ) -> DrawResult {
-    let (w, h) = notes_size(c, notes, max_w);
-    let r = Rect::new(x, y, x + w, y + h);
-    c.fill_rect(r, rgba(WHITE, 0.9))?;
-    c.stroke_rect(r, RGBColor(200, 200, 200).to_rgba(), 1.0)?;
+    draw_box(
+        c,
+        (x, y),
+        notes_size(c, notes, max_w),
+        RGBColor(200, 200, 200),
+    )?;
     for (i, n) in notes.iter().enumerate() {
         let yc = y + c.p(LEGEND_PAD - 2.0 + 17.0 * (i as f64 + 0.5));
         let text = fit_text(c, n, NOTE_SIZE, false, max_w);
+        let tx = x + c.p(LEGEND_PAD);
         c.text(
             &text,
-            x + c.p(LEGEND_PAD),
+            tx,
             yc,
             NOTE_SIZE,
             false,

@@ -226,13 +226,13 @@ fn draw_boxes<DB: DrawingBackend>(c: &Canvas<'_, DB>, lay: &LineLayout) -> DrawR
 }
 
 impl Figure for LinePlot {
-    fn size(&self) -> (u32, u32) {
-        (900, 650)
+    const SIZE: (u32, u32) = (900, 650);
+
+    fn title(&self) -> &str {
+        &self.title
     }
 
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
-        let (w, h) = c.dims();
-        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
+    fn draw_body<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>, top: f64) -> DrawResult {
         let lay = self.layout(c, top);
         let frame = &lay.frame;
         draw_grid(c, frame, &lay.xt, &lay.yt)?;

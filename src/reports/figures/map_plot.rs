@@ -64,16 +64,17 @@ fn finite(v: &Option<f64>) -> Option<f64> {
 }
 
 impl Figure for MapPlot {
-    fn size(&self) -> (u32, u32) {
-        (900, 650)
+    const SIZE: (u32, u32) = (900, 650);
+
+    fn title(&self) -> &str {
+        &self.title
     }
 
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
+    fn draw_body<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>, top: f64) -> DrawResult {
         let (w, h) = c.dims();
-        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
-        let empty = self.xs.is_empty() || self.ys.is_empty();
         let scale = Scale::from_values(self.values.iter().filter_map(finite));
         let geometry = grid_ranges(&self.xs, &self.ys);
+        let empty = geometry.is_empty();
         let entries = self.legend();
 
         // The legend flows in a strip above the frame, the colour bar sits to its right.

@@ -3,7 +3,8 @@
 //! atomically.
 
 use super::super::atomic;
-use super::canvas::{Canvas, EmbeddedImage};
+use super::axes::draw_title;
+use super::canvas::{Canvas, EmbeddedImage, Rect};
 use super::{DrawError, FigureError};
 use base64::engine::general_purpose::STANDARD as BASE64;
 use base64::Engine as _;
@@ -38,8 +39,18 @@ pub(super) const SVG_SCALE: u32 = 4;
 /// A figure that can draw itself on any plotters backend.
 pub(super) trait Figure {
     /// Final size in pixels.
-    fn size(&self) -> (u32, u32);
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult;
+    const SIZE: (u32, u32);
+    /// The title, drawn centred at the top.
+    fn title(&self) -> &str;
+    /// Draws everything below the title, whose lower edge is at `top` (device pixels).
+    fn draw_body<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>, top: f64) -> DrawResult;
+}
+
+/// Draws a whole figure: the title, then the body below it.
+fn draw_figure<F: Figure, DB: DrawingBackend>(fig: &F, c: &mut Canvas<'_, DB>) -> DrawResult {
+    let (w, h) = c.dims();
+    let top = draw_title(c, fig.title(), Rect::new(0.0, 0.0, w, h))?;
+    fig.draw_body(c, top)
 }
 
 /// What drawing a figure (or one of its parts) returns.
@@ -84,7 +95,7 @@ pub(super) fn write_figure<F: Figure>(fig: &F, stem: &Path) -> Result<(), Figure
             });
         }
     }
-    let (w, h) = fig.size();
+    let (w, h) = F::SIZE;
 
     // Render both in memory first, so that a drawing failure writes nothing at all.
     let svg = render_svg(fig, w, h).map_err(|source| FigureError::Draw {
@@ -119,7 +130,7 @@ pub(super) fn render_svg<F: Figure>(fig: &F, w: u32, h: u32) -> Result<String, D
         let area = SVGBackend::with_string(&mut text, (sw, sh)).into_drawing_area();
         let mut c = Canvas::new(&area, SVG_SCALE as f64, true);
         c.clear()?;
-        fig.draw(&mut c)?;
+        draw_figure(fig, &mut c)?;
         images = std::mem::take(&mut c.images);
         area.present().backend()?;
     }
@@ -138,7 +149,7 @@ pub(super) fn render_rgb<F: Figure>(fig: &F, w: u32, h: u32) -> Result<Vec<u8>, 
     {
         let area = BitMapBackend::with_buffer(&mut big, (bw as u32, bh as u32)).into_drawing_area();
         let mut c = Canvas::new(&area, SUPERSAMPLE as f64, false);
-        fig.draw(&mut c)?;
+        draw_figure(fig, &mut c)?;
         area.present().backend()?;
     }
     Ok(downsample(&big, w as usize, h as usize, k))

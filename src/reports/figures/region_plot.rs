@@ -72,15 +72,17 @@ impl RegionPlot {
 }
 
 impl Figure for RegionPlot {
-    fn size(&self) -> (u32, u32) {
-        (900, 650)
+    const SIZE: (u32, u32) = (900, 650);
+
+    fn title(&self) -> &str {
+        &self.title
     }
 
-    fn draw<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>) -> DrawResult {
+    fn draw_body<DB: DrawingBackend>(&self, c: &mut Canvas<'_, DB>, top: f64) -> DrawResult {
         let (w, h) = c.dims();
-        let top = draw_title(c, &self.title, Rect::new(0.0, 0.0, w, h))?;
-        let empty = self.xs.is_empty() || self.ys.is_empty();
-        let GridGeometry { xe, ye, xr, yr } = grid_ranges(&self.xs, &self.ys);
+        let geometry = grid_ranges(&self.xs, &self.ys);
+        let empty = geometry.is_empty();
+        let GridGeometry { xe, ye, xr, yr } = geometry;
         let entries = self.legend();
 
         // The legend box sits to the right of the frame.

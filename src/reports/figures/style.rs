@@ -4,38 +4,45 @@
 use super::geometry::*;
 use plotters::style::RGBColor;
 
+/// A colour from its `0xRRGGBB` code.
+const fn rgb(code: u32) -> RGBColor {
+    RGBColor((code >> 16) as u8, (code >> 8) as u8, code as u8)
+}
+
 /// Line and marker palette (colour-blind safe ordering, dark enough on white).
 pub(super) const LINE_PALETTE: [RGBColor; 8] = [
-    RGBColor(0, 114, 178),
-    RGBColor(213, 94, 0),
-    RGBColor(0, 158, 115),
-    RGBColor(204, 121, 167),
-    RGBColor(230, 159, 0),
-    RGBColor(86, 180, 233),
-    RGBColor(0, 0, 0),
-    RGBColor(150, 90, 40),
+    rgb(0x0072B2),
+    rgb(0xD55E00),
+    rgb(0x009E73),
+    rgb(0xCC79A7),
+    rgb(0xE69F00),
+    rgb(0x56B4E9),
+    rgb(0x000000),
+    rgb(0x965A28),
 ];
 
 /// Light fills for categorical regions (lines and text stay readable on top).
 pub(super) const REGION_PALETTE: [RGBColor; 12] = [
-    RGBColor(198, 219, 239),
-    RGBColor(253, 208, 162),
-    RGBColor(199, 233, 192),
-    RGBColor(218, 218, 235),
-    RGBColor(252, 197, 205),
-    RGBColor(255, 237, 160),
-    RGBColor(204, 236, 230),
-    RGBColor(230, 220, 200),
-    RGBColor(235, 205, 240),
-    RGBColor(215, 235, 160),
-    RGBColor(175, 215, 225),
-    RGBColor(240, 225, 215),
+    rgb(0xC6DBEF),
+    rgb(0xFDD0A2),
+    rgb(0xC7E9C0),
+    rgb(0xDADAEB),
+    rgb(0xFCC5CD),
+    rgb(0xFFEDA0),
+    rgb(0xCCECE6),
+    rgb(0xE6DCC8),
+    rgb(0xEBCDF0),
+    rgb(0xD7EBA0),
+    rgb(0xAFD7E1),
+    rgb(0xF0E1D7),
 ];
 
+/// Line palette colour `i` (cycling).
 pub(super) fn line_color(i: usize) -> RGBColor {
     LINE_PALETTE[i % LINE_PALETTE.len()]
 }
 
+/// Region palette colour `i` (cycling).
 pub(super) fn region_color(i: usize) -> RGBColor {
     REGION_PALETTE[i % REGION_PALETTE.len()]
 }
