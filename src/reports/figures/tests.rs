@@ -39,6 +39,20 @@ fn check_outputs(stem: &Path) {
     }
 }
 
+/// Writes each plot to `<dir>/<prefix><k>` and checks both files.
+fn write_each<P>(
+    dir: &Path,
+    prefix: &str,
+    plots: &[P],
+    write: impl Fn(&P, &Path) -> Result<(), FigureError>,
+) {
+    for (k, p) in plots.iter().enumerate() {
+        let stem = dir.join(format!("{prefix}{k}"));
+        write(p, &stem).unwrap();
+        check_outputs(&stem);
+    }
+}
+
 fn curve(f: impl Fn(f64) -> f64, n: usize) -> Vec<(f64, f64)> {
     (0..n)
         .map(|i| {
@@ -228,20 +242,10 @@ fn line_plot_writes_png_and_svg() {
 }
 
 #[test]
-fn map_plot_writes_png_and_svg() {
-    let dir = scratch("map");
-    let stem = dir.join("map");
-    write_map_plot(&map_plot(), &stem).unwrap();
-    check_outputs(&stem);
-    fs::remove_dir_all(&dir).unwrap();
-}
-
-#[test]
-fn region_plot_writes_png_and_svg() {
-    let dir = scratch("region");
-    let stem = dir.join("region");
-    write_region_plot(&region_plot(), &stem).unwrap();
-    check_outputs(&stem);
+fn grid_plots_write_png_and_svg() {
+    let dir = scratch("grid");
+    write_each(&dir, "map", &[map_plot()], write_map_plot);
+    write_each(&dir, "region", &[region_plot()], write_region_plot);
     fs::remove_dir_all(&dir).unwrap();
 }
 
@@ -300,11 +304,7 @@ fn degenerate_line_plots_do_not_panic() {
             ..Default::default()
         },
     ];
-    for (k, p) in lines.iter().enumerate() {
-        let stem = dir.join(format!("line{k}"));
-        write_line_plot(p, &stem).unwrap();
-        check_outputs(&stem);
-    }
+    write_each(&dir, "line", &lines, write_line_plot);
     fs::remove_dir_all(&dir).unwrap();
 }
 
@@ -335,11 +335,7 @@ fn degenerate_grid_plots_do_not_panic() {
             ..Default::default()
         },
     ];
-    for (k, p) in maps.iter().enumerate() {
-        let stem = dir.join(format!("map{k}"));
-        write_map_plot(p, &stem).unwrap();
-        check_outputs(&stem);
-    }
+    write_each(&dir, "map", &maps, write_map_plot);
     let regions = [
         RegionPlot::default(),
         RegionPlot {
@@ -350,11 +346,7 @@ fn degenerate_grid_plots_do_not_panic() {
             ..Default::default()
         },
     ];
-    for (k, p) in regions.iter().enumerate() {
-        let stem = dir.join(format!("region{k}"));
-        write_region_plot(p, &stem).unwrap();
-        check_outputs(&stem);
-    }
+    write_each(&dir, "region", &regions, write_region_plot);
     fs::remove_dir_all(&dir).unwrap();
 }
 
@@ -368,11 +360,8 @@ fn degenerate_density_plots_do_not_panic() {
     let mut holes = density_plot(8);
     holes.density[5] = nan;
     holes.peaks.clear();
-    for (k, p) in [DensityPlot::default(), one, holes].iter().enumerate() {
-        let stem = dir.join(format!("density{k}"));
-        write_density_plot(p, &stem).unwrap();
-        check_outputs(&stem);
-    }
+    let plots = [DensityPlot::default(), one, holes];
+    write_each(&dir, "density", &plots, write_density_plot);
     fs::remove_dir_all(&dir).unwrap();
 }
 
