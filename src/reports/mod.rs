@@ -1,4 +1,5 @@
 //! Reports: tables (CSV, JSON) and figures, built from solver results at the edge of the pipeline.
+#![warn(missing_docs)]
 
 pub mod atomic;
 pub mod error;

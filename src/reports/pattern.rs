@@ -17,15 +17,23 @@ use std::path::{Path, PathBuf};
 
 /// Everything `pattern` reports.
 pub struct PatternReport<'a> {
+    /// The configuration as given (for the provenance header).
     pub src: &'a ConfigSource,
+    /// The model built from it.
     pub model: &'a Model,
+    /// Index of the channel reported.
     pub channel: usize,
     /// None when the line point could not be reached (the reason is in `line_failure`).
     pub line: Option<&'a LinePoint>,
+    /// Why the line point could not be reached (when `line` is None).
     pub line_failure: Option<String>,
+    /// The structures ranked on the line, in ranking order.
     pub structures: &'a [RankedStructure],
+    /// The candidate states at the configuration as given.
     pub candidates: &'a [StateCandidate],
+    /// Index of the chosen state in `candidates`.
     pub chosen: usize,
+    /// Density waves of the chosen state.
     pub waves: &'a [DensityWave],
     /// Field of view of the map, nm.
     pub fov: f64,

@@ -9,24 +9,36 @@ use std::path::PathBuf;
 pub enum FigureError {
     /// The plot description is inconsistent (grid shape, non-monotonic axis, ...).
     #[error("figure {}: invalid input: {reason}", .path.display())]
-    InvalidInput { path: PathBuf, reason: InputProblem },
+    InvalidInput {
+        /// The figure stem.
+        path: PathBuf,
+        /// What is inconsistent.
+        reason: InputProblem,
+    },
     /// The drawing backend or the PNG encoder failed.
     #[error("figure {}: drawing failed: {source}", .path.display())]
     Draw {
+        /// The figure file being drawn.
         path: PathBuf,
         #[source]
+        /// What failed.
         source: DrawError,
     },
     /// The file system refused the file (missing directory, permissions, disk full, ...).
     #[error("figure {}: cannot write: {source}", .path.display())]
     Io {
+        /// The figure file that could not be written.
         path: PathBuf,
         #[source]
+        /// What the file system reported.
         source: io::Error,
     },
     /// The embedded font could not be parsed (should never happen).
     #[error("figure {}: embedded font could not be loaded", .path.display())]
-    Font { path: PathBuf },
+    Font {
+        /// The figure file being drawn.
+        path: PathBuf,
+    },
 }
 
 /// What is inconsistent in a plot description.
@@ -34,30 +46,56 @@ pub enum FigureError {
 pub enum InputProblem {
     /// An axis (`xs` or `ys`) holds a NaN or an infinity.
     #[error("{axis} contains a non-finite value")]
-    NonFiniteAxis { axis: &'static str },
+    NonFiniteAxis {
+        /// `xs` or `ys`.
+        axis: &'static str,
+    },
     /// The cell edges of an axis overflow the f64 range.
     #[error("{axis} spans too large a range")]
-    AxisTooLarge { axis: &'static str },
+    AxisTooLarge {
+        /// `xs` or `ys`.
+        axis: &'static str,
+    },
     /// An axis is neither strictly increasing nor strictly decreasing.
     #[error("{axis} is not strictly monotonic")]
-    NotMonotonic { axis: &'static str },
+    NotMonotonic {
+        /// `xs` or `ys`.
+        axis: &'static str,
+    },
     /// A per-cell list (`values`, `regions`) does not have `nx * ny` entries.
     #[error("{what} has {cells} cells, expected xs.len() * ys.len() = {nx} * {ny}")]
     CellCount {
+        /// Which list (`values`, `regions`).
         what: &'static str,
+        /// Its length.
         cells: usize,
+        /// Number of x cell centres.
         nx: usize,
+        /// Number of y cell centres.
         ny: usize,
     },
     /// The outline mask of a colour map has another shape than its values.
     #[error("outline has {outline} cells, values have {values}")]
-    OutlineShape { outline: usize, values: usize },
+    OutlineShape {
+        /// Cells in the outline.
+        outline: usize,
+        /// Cells in the values.
+        values: usize,
+    },
     /// The density samples are not `n * n`.
     #[error("density has {samples} samples, expected n*n with n = {n}")]
-    DensityShape { samples: usize, n: usize },
+    DensityShape {
+        /// Samples given.
+        samples: usize,
+        /// Samples per side.
+        n: usize,
+    },
     /// The field of view (nm) is not a positive number.
     #[error("field of view must be positive, got {fov_nm} nm")]
-    FieldOfView { fov_nm: f64 },
+    FieldOfView {
+        /// The side given, nm.
+        fov_nm: f64,
+    },
 }
 
 /// A failure while drawing a figure in memory or encoding its raster.
@@ -69,8 +107,11 @@ pub enum DrawError {
     /// A raster handed to the bitmap backend does not have `width * height` RGB pixels.
     #[error("{what} buffer has the wrong size for {width} x {height} pixels")]
     RasterSize {
+        /// Which buffer (the whole image or an embedded raster).
         what: &'static str,
+        /// Expected width, pixels.
         width: u32,
+        /// Expected height, pixels.
         height: u32,
     },
     /// The PNG encoder failed.

@@ -41,9 +41,12 @@ use std::path::Path;
 /// Line pattern of a curve.  In phase diagrams: second-order lines solid, first-order dashed.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 pub enum Dash {
+    /// A continuous line.
     #[default]
     Solid,
+    /// Long dashes.
     Dashed,
+    /// Short dots.
     Dotted,
 }
 
@@ -51,8 +54,11 @@ pub enum Dash {
 /// drawn as a dot.  An empty label keeps the curve out of the legend.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct Series {
+    /// Legend text.
     pub label: String,
+    /// Points `(x, y)` in data units, drawn in order.
     pub points: Vec<(f64, f64)>,
+    /// Line pattern.
     pub dash: Dash,
     /// Index into the line palette (taken modulo its length).
     pub color: usize,
@@ -62,9 +68,13 @@ pub struct Series {
 /// in its list, the fill colour is the palette index.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct Marker {
+    /// Legend text (empty: not in the legend).
     pub label: String,
+    /// Position on the x axis, data units.
     pub x: f64,
+    /// Position on the y axis, data units.
     pub y: f64,
+    /// Index into the line palette of the fill (taken modulo its length).
     pub color: usize,
 }
 
@@ -74,20 +84,30 @@ pub struct Marker {
 /// drawn as thin lines.  Non-finite points are skipped.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct Band {
+    /// Legend text (empty: not in the legend).
     pub label: String,
+    /// The lower boundary curve, data units.
     pub lower: Vec<(f64, f64)>,
+    /// The upper boundary curve, data units (empty: `lower` is a closed polygon).
     pub upper: Vec<(f64, f64)>,
+    /// Index into the line palette (taken modulo its length).
     pub color: usize,
 }
 
 /// Curves, bands and markers on linear axes.  Axis labels carry their units.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct LinePlot {
+    /// Title above the plot.
     pub title: String,
+    /// Label of the x axis, with its unit.
     pub x_label: String,
+    /// Label of the y axis, with its unit.
     pub y_label: String,
+    /// Curves, drawn over the bands.
     pub series: Vec<Series>,
+    /// Special points, drawn last.
     pub markers: Vec<Marker>,
+    /// Shaded bands, drawn first.
     pub bands: Vec<Band>,
     /// Small text lines (parameters of the run, ...) drawn in a free corner.
     pub notes: Vec<String>,
@@ -97,11 +117,17 @@ pub struct LinePlot {
 /// an outlined sub-region and optional curves and markers on top.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct MapPlot {
+    /// Title above the plot.
     pub title: String,
+    /// Label of the x axis, with its unit.
     pub x_label: String,
+    /// Label of the y axis, with its unit.
     pub y_label: String,
+    /// Label of the colour bar, with its unit.
     pub colorbar_label: String,
+    /// Cell centres along x, data units.
     pub xs: Vec<f64>,
+    /// Cell centres along y, data units.
     pub ys: Vec<f64>,
     /// Row-major, `values[iy * xs.len() + ix]`; `None` (or a non-finite value) marks a failed
     /// point, drawn grey.
@@ -111,17 +137,24 @@ pub struct MapPlot {
     pub outline: Vec<bool>,
     /// Legend text of the outlined region (empty: no legend entry).
     pub outline_label: String,
+    /// Curves drawn over the map (with a white halo).
     pub series: Vec<Series>,
+    /// Special points drawn over the map.
     pub markers: Vec<Marker>,
 }
 
 /// A categorical phase diagram on a grid (cell centres `xs` × `ys`, each strictly monotonic).
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct RegionPlot {
+    /// Title above the plot.
     pub title: String,
+    /// Label of the x axis, with its unit.
     pub x_label: String,
+    /// Label of the y axis, with its unit.
     pub y_label: String,
+    /// Cell centres along x, data units.
     pub xs: Vec<f64>,
+    /// Cell centres along y, data units.
     pub ys: Vec<f64>,
     /// Row-major region index per cell, `regions[iy * xs.len() + ix]`; `None` = no solution.
     pub regions: Vec<Option<usize>>,
@@ -140,6 +173,7 @@ pub struct RegionPlot {
 /// A real-space density over a square field of view beside its Fourier amplitudes.
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct DensityPlot {
+    /// Title above both panels.
     pub title: String,
     /// Side of the field of view in nm; the map covers `[-fov/2, fov/2]^2`.
     pub fov_nm: f64,
@@ -148,6 +182,7 @@ pub struct DensityPlot {
     /// `n × n` samples, row-major with y outer (`density[iy * n + ix]`), `iy = 0` at `y = -fov/2`.
     /// Sample `(ix, iy)` sits at the centre of its cell of side `fov/n`.
     pub density: Vec<f64>,
+    /// Label of the colour bar, with its unit.
     pub colorbar_label: String,
     /// Fourier peaks `(kx, ky, amplitude, label)`, k in 1/nm, drawn as discs whose area is
     /// proportional to the amplitude.
