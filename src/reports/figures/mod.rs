@@ -11,11 +11,19 @@
 //! Rendering notes:
 //! * Text uses an embedded DejaVu Sans (assets/), registered once with plotters' `ab_glyph`
 //!   support under the family name `sans-serif`; no system font or fontconfig is needed.
-//! * PNGs are drawn at twice the size and averaged down (anti-aliasing); SVGs are drawn at 1:1.
+//! * PNGs are drawn at twice the size and averaged down (anti-aliasing), then encoded in memory
+//!   by the `png` crate; SVGs are drawn with four user units per pixel of their declared size.
+//!   Rasters inside an SVG (the density map) are embedded as base64 PNG data URIs.
 //! * Axes, ticks, legends and colour bars are laid out here rather than by plotters' chart
 //!   builder, so that tick labels, legend placement and colour bars are under our control; plotters
 //!   serves as the drawing backend.
 //! * Both files are written atomically (see [`super::atomic`]); nothing half-written appears.
+//!
+//! Layout of the module: `output` (the `Figure` trait, rendering, PNG and SVG files), `canvas`
+//! (device-pixel drawing primitives), `geometry` (frames, ranges, ticks, clipping), `style`
+//! (palettes, colour map, sizes), `axes` (title and axes), `marks` (curves, bands, markers),
+//! `legend` (legends and notes), `cells` (grid cells, colour bar, hatching, contours), one file
+//! per figure kind (`line_plot`, `map_plot`, `region_plot`, `density_plot`) and `error`.
 
 mod axes;
 mod canvas;
