@@ -1,9 +1,9 @@
 //! Titles, axes, grid lines and tick labels of a plot frame (text layout in device pixels).
 
-use super::canvas::*;
-use super::geometry::*;
-use super::output::*;
-use super::style::*;
+use super::canvas::{Canvas, Rect, Rot, BLACK, GRID_GREY, TEXT_GREY, WHITE};
+use super::geometry::{tick_labels, ticks, Frame};
+use super::output::DrawResult;
+use super::style::{GAP, LABEL_SIZE, PAD, TICK_LEN, TICK_SIZE, TITLE_SIZE};
 use super::{Dash, DrawError};
 use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;

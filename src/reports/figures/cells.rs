@@ -1,11 +1,11 @@
 //! Grid plots: cell rectangles and their fills, the colour bar, hatching and the contour of a
 //! cell mask (used by the colour map and the region plot).
 
-use super::axes::*;
-use super::canvas::*;
-use super::geometry::*;
-use super::output::*;
-use super::style::*;
+use super::axes::{fit_text, AxisTicks};
+use super::canvas::{rgba, Canvas, Rect, Rot, BLACK, WHITE};
+use super::geometry::{cell_edges, Frame};
+use super::output::DrawResult;
+use super::style::{colormap, Scale, GAP, LABEL_SIZE, TICK_LEN, TICK_SIZE};
 use super::Dash;
 use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;

@@ -1,12 +1,12 @@
 //! The density plot: a real-space density map (a raster) beside its Fourier amplitudes drawn as
 //! discs whose area follows the amplitude.
 
-use super::axes::*;
-use super::canvas::*;
-use super::cells::*;
-use super::geometry::*;
-use super::output::*;
-use super::style::*;
+use super::axes::{axes_room, draw_axes, draw_grid, draw_no_data, AxisTicks};
+use super::canvas::{rgba, Canvas, Rect, Rot, BLACK, FAILED_GREY, TEXT_GREY, WHITE};
+use super::cells::{colorbar_room, draw_colorbar};
+use super::geometry::{fmt_significant, Frame};
+use super::output::{DrawResult, Figure};
+use super::style::{line_color, Scale, GAP, NOTE_SIZE, PAD};
 use super::{Dash, DensityPlot};
 use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;

@@ -1,7 +1,7 @@
 //! Plot geometry of the figures: data-to-pixel frames, data ranges, tick values and labels, grid
 //! cell edges, and clipping of curves and polygons to the plotted range.
 
-use super::canvas::*;
+use super::canvas::Rect;
 use super::{Band, InputProblem};
 
 /// The plot rectangle with its data ranges.

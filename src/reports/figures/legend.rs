@@ -1,13 +1,13 @@
 //! Legends and note boxes of the figures: swatches, boxed and flowing legends, and the placement
 //! of boxes where they cover the least data.
 
-use super::axes::*;
-use super::canvas::*;
-use super::cells::*;
-use super::geometry::*;
-use super::marks::*;
-use super::output::*;
-use super::style::*;
+use super::axes::fit_text;
+use super::canvas::{rgba, Canvas, Rect, Rot, BLACK, FAILED_GREY, TEXT_GREY, WHITE};
+use super::cells::{hatch_color, hatch_rect};
+use super::geometry::Frame;
+use super::marks::draw_marker;
+use super::output::DrawResult;
+use super::style::{colormap, line_color, GAP, LEGEND_SIZE, LINE_WIDTH, NOTE_SIZE};
 use super::{Band, Dash, Marker, Series};
 use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;

@@ -1,13 +1,18 @@
 //! The line plot: curves, bands and markers on linear axes, with a legend and notes placed where
 //! they cover the least data.
 
-use super::axes::*;
-use super::canvas::*;
-use super::geometry::*;
-use super::legend::*;
-use super::marks::*;
-use super::output::*;
-use super::style::*;
+use super::axes::{axes_room, draw_axes, draw_grid, draw_no_data, AxisTicks};
+use super::canvas::{Canvas, Rect};
+use super::geometry::{
+    band_polygon, clip_polygon, clip_polyline, densify, point_in_polygon, Extent, Frame,
+};
+use super::legend::{
+    band_entries, draw_legend_box, draw_notes, legend_size, marker_entries, notes_size,
+    place_boxes, series_entries, LegendEntry,
+};
+use super::marks::{draw_all_series, draw_band, draw_markers};
+use super::output::{DrawResult, Figure};
+use super::style::{GAP, PAD};
 use super::LinePlot;
 use plotters::prelude::DrawingBackend;
 

@@ -1,14 +1,19 @@
 //! The colour map: values on a parameter grid with an outlined, hatched sub-region, curves and
 //! markers on top, a colour bar and a legend strip above the plot.
 
-use super::axes::*;
-use super::canvas::*;
-use super::cells::*;
-use super::geometry::*;
-use super::legend::*;
-use super::marks::*;
-use super::output::*;
-use super::style::*;
+use super::axes::{axes_room, draw_axes, draw_no_data, AxisTicks};
+use super::canvas::{Canvas, Rect, FAILED_GREY, WHITE};
+use super::cells::{
+    colorbar_room, draw_cells, draw_colorbar, draw_mask, grid_ranges, GridGeometry,
+};
+use super::geometry::Frame;
+use super::legend::{
+    draw_legend_flow, failed_entry, legend_flow, marker_entries, series_entries, LegendEntry,
+    Swatch,
+};
+use super::marks::{draw_all_series, draw_markers};
+use super::output::{DrawResult, Figure};
+use super::style::{Scale, PAD};
 use super::MapPlot;
 use plotters::prelude::DrawingBackend;
 use plotters::style::{Color, RGBColor};

@@ -1,9 +1,9 @@
 //! Data marks drawn inside a plot frame: markers of special points, curves and shaded bands.
 
-use super::canvas::*;
-use super::geometry::*;
-use super::output::*;
-use super::style::*;
+use super::canvas::{rgba, Canvas, BLACK, WHITE};
+use super::geometry::{band_polygon, clip_polygon, clip_polyline, Frame};
+use super::output::DrawResult;
+use super::style::{line_color, LINE_WIDTH, MARKER_R};
 use super::{Band, Dash, Marker, Series};
 use plotters::prelude::DrawingBackend;
 use plotters::style::{Color, RGBColor};

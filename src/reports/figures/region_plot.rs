@@ -1,14 +1,17 @@
 //! The region plot: a categorical phase diagram (shaded regions, transition lines, bands, special
 //! points and labels) with a boxed legend to the right.
 
-use super::axes::*;
-use super::canvas::*;
-use super::cells::*;
-use super::geometry::*;
-use super::legend::*;
-use super::marks::*;
-use super::output::*;
-use super::style::*;
+use super::axes::{axes_room, draw_axes, draw_no_data, AxisTicks};
+use super::canvas::{rgba, Canvas, Rect, Rot, BLACK, FAILED_GREY, WHITE};
+use super::cells::{draw_cells, grid_ranges, GridGeometry};
+use super::geometry::Frame;
+use super::legend::{
+    band_entries, draw_legend_box, failed_entry, legend_size, marker_entries, series_entries,
+    LegendEntry, Swatch,
+};
+use super::marks::{draw_all_series, draw_band, draw_markers};
+use super::output::{DrawResult, Figure};
+use super::style::{region_color, PAD};
 use super::RegionPlot;
 use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;

@@ -1,7 +1,7 @@
 //! Colours and sizes shared by all figures: line and region palettes, the viridis colour map and
 //! its value scale, and the layout constants (logical pixels).
 
-use super::geometry::*;
+use super::geometry::Extent;
 use plotters::style::RGBColor;
 
 /// A colour from its `0xRRGGBB` code.
