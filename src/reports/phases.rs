@@ -219,12 +219,17 @@ fn phases_json(p: &PhaseInputs, lines: &PhaseLines) -> Value {
         .map(|m| json!({"value": m.value, "temperature_K": mev_to_kelvin(m.t), "preferred": m.preferred, "wavevectors": m.wavevectors, "first_order": m.first_order, "failure": m.failure}))
         .collect();
     v["note"] = json!("uniform_instability is the line g chi(0, T) = 1 (second_order where beta > 0); the normal state's spinodal is that line, the uniform state's spinodal is where its minimum disappears; omega totals over spin channels");
-    v["columns"] = Value::Array(d.columns.iter().map(column_json).collect());
+    v["columns"] = Value::Array(
+        d.columns
+            .iter()
+            .map(|c| column_json(c.as_ref().map_err(String::as_str)))
+            .collect(),
+    );
     v
 }
 
 /// One column of the diagram as JSON: the state and gap of each cell.
-fn column_json(c: &Result<Column, String>) -> Value {
+fn column_json(c: Result<&Column, &str>) -> Value {
     match c {
         Ok(c) => json!({
             "value": c.value,
