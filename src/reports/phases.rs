@@ -5,7 +5,7 @@
 use super::error::ReportError;
 use super::figures::{write_region_plot, Band, Dash, Marker, RegionPlot, Series};
 use super::files::{failed_cells, figure_files, write_csv, write_json};
-use super::scan::key_unit;
+use super::scan::{axis_label, key_unit};
 use super::tables::header;
 use crate::config::ConfigSource;
 use crate::model::Model;
@@ -243,19 +243,14 @@ fn column_json(c: Result<&Column, &str>) -> Value {
 /// The phase figure: regions shaded, second-order lines solid, first-order dashed, the
 /// metastability band, special points marked, preferred structures labelled.
 fn phase_plot(p: &PhaseInputs, lines: &PhaseLines) -> RegionPlot {
-    let (d, axis) = (p.diagram, &p.grid.axes[0]);
+    let d = p.diagram;
     let (xs, ys, regions) = region_grid(p);
-    let u = key_unit(&axis.key);
     RegionPlot {
         title: format!(
             "Phase diagram, channel {}",
             p.model.channels[d.channel].label
         ),
-        x_label: if u.is_empty() {
-            axis.path()
-        } else {
-            format!("{} ({u})", axis.path())
-        },
+        x_label: axis_label(p.grid, 0),
         y_label: "T (K)".into(),
         xs,
         ys,

@@ -29,7 +29,8 @@ pub fn key_unit(key: &str) -> &'static str {
     }
 }
 
-fn axis_label(grid: &Grid, i: usize) -> String {
+/// Label of swept axis `i`: its path and, when known, its unit.
+pub(crate) fn axis_label(grid: &Grid, i: usize) -> String {
     let a = &grid.axes[i];
     let u = key_unit(&a.key);
     if u.is_empty() {
