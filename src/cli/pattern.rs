@@ -97,7 +97,8 @@ pub fn run_on(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outc
         unpaired_correlation: unpaired,
     };
     let stem = format!("pattern_{}", ch.label());
-    let written = write_pattern(&report, &a.out, &stem).map_err(Failure::Input)?;
+    let written =
+        write_pattern(&report, &a.out, &stem).map_err(|e| Failure::Input(e.to_string()))?;
     if a.json {
         print_json(&pattern_json(&report));
     } else {

@@ -118,7 +118,7 @@ pub fn run_on(
     }
     let stem = format!("phases_{}", model.channels()[channel].label());
     let written = nestor::reports::phases::write_phases(src, model, grid, &d, &a.out, &stem)
-        .map_err(Failure::Input)?;
+        .map_err(|e| Failure::Input(e.to_string()))?;
     for w in &written {
         println!("wrote {}", w.display());
     }

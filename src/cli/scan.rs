@@ -95,7 +95,7 @@ impl ScanJob<'_> {
             self.out,
             self.stem,
         )
-        .map_err(Failure::Input)?;
+        .map_err(|e| Failure::Input(e.to_string()))?;
         for w in &written {
             println!("wrote {}", w.display());
         }

@@ -2,7 +2,9 @@
 //! the configuration as given, its density waves (JSON and text), and the figure a scanning-probe
 //! user holds against a topograph: the real-space density map beside its Fourier amplitudes.
 
+use super::error::ReportError;
 use super::figures::{write_density_plot, DensityPlot};
+use super::files::{figure_files, write_json};
 use super::tables::{header, text_table};
 use crate::config::ConfigSource;
 use crate::model::{Channel, Model};
@@ -14,15 +16,23 @@ use std::path::{Path, PathBuf};
 
 /// Everything `pattern` reports.
 pub struct PatternReport<'a> {
+    /// The configuration as given (for the provenance header).
     pub src: &'a ConfigSource,
+    /// The model built from it.
     pub model: &'a Model,
+    /// Index of the channel reported.
     pub channel: usize,
     /// None when the line point could not be reached (the reason is in `line_failure`).
     pub line: Option<&'a LinePoint>,
+    /// Why the line point could not be reached (when `line` is None).
     pub line_failure: Option<String>,
+    /// The structures ranked on the line, in ranking order.
     pub structures: &'a [RankedStructure],
+    /// The candidate states at the configuration as given.
     pub candidates: &'a [StateCandidate],
+    /// Index of the chosen state in `candidates`.
     pub chosen: usize,
+    /// Density waves of the chosen state.
     pub waves: &'a [DensityWave],
     /// Field of view of the map, nm.
     pub fov: f64,
@@ -40,7 +50,33 @@ pub fn pattern_json(r: &PatternReport) -> Value {
     let ns = ch.spin_channels();
     let mut v = header(r.src, "pattern");
     v["channel"] = json!(ch.label());
-    v["line_point"] = match r.line {
+    v["line_point"] = line_point_json(r);
+    v["structures"] = structures_json(r);
+    v["quartic_units"] = json!(
+        "F4/(n^2 |Delta|^4) in meV^-3 nm^-2 per spin channel, with the best relative phases; the plane wave's is beta/2"
+    );
+    v["states"] = states_json(r);
+    v["chosen_state"] = json!(r.candidates.get(r.chosen).map(|c| c.name.clone()));
+    v["omega_units"] = json!(format!(
+        "Omega relative to the normal state, total over {ns} spin channel(s), meV/nm^2"
+    ));
+    v["density_modulation"] = waves_json(r);
+    v["unpaired_carriers"] = match unpaired(r) {
+        Some((c, carriers, small)) => json!({
+            "charge_density_correlation_with_gap_squared": c,
+            "carriers": carriers,
+            "collect_where": if small { "|Delta(r)| is small" } else { "|Delta(r)| is large" },
+        }),
+        None => Value::Null,
+    };
+    v["field_of_view_nm"] = json!(r.fov);
+    v["warnings"] = json!(r.model.warnings());
+    v
+}
+
+/// The point of the modulated instability line the ranking was made at (or why it is missing).
+fn line_point_json(r: &PatternReport) -> Value {
+    match r.line {
         Some(l) => json!({
             "path": l.path,
             "value": l.value,
@@ -52,9 +88,12 @@ pub fn pattern_json(r: &PatternReport) -> Value {
             "isotropic": l.isotropic,
         }),
         None => json!({"path": null, "value": null, "failure": r.line_failure}),
-    };
-    v["structures"] = r
-        .structures
+    }
+}
+
+/// The ranked structures.
+fn structures_json(r: &PatternReport) -> Value {
+    r.structures
         .iter()
         .map(|s| {
             json!({
@@ -70,12 +109,12 @@ pub fn pattern_json(r: &PatternReport) -> Value {
                 "preferred": s.preferred,
             })
         })
-        .collect();
-    v["quartic_units"] = json!(
-        "F4/(n^2 |Delta|^4) in meV^-3 nm^-2 per spin channel, with the best relative phases; the plane wave's is beta/2"
-    );
-    v["states"] = r
-        .candidates
+        .collect()
+}
+
+/// The candidate states at the configuration as given.
+fn states_json(r: &PatternReport) -> Value {
+    r.candidates
         .iter()
         .map(|c| {
             json!({
@@ -88,13 +127,12 @@ pub fn pattern_json(r: &PatternReport) -> Value {
                 "notes": c.notes,
             })
         })
-        .collect();
-    v["chosen_state"] = json!(r.candidates.get(r.chosen).map(|c| c.name.clone()));
-    v["omega_units"] = json!(format!(
-        "Omega relative to the normal state, total over {ns} spin channel(s), meV/nm^2"
-    ));
-    v["density_modulation"] = r
-        .waves
+        .collect()
+}
+
+/// The density waves of the chosen state.
+fn waves_json(r: &PatternReport) -> Value {
+    r.waves
         .iter()
         .map(|w| {
             json!({
@@ -107,18 +145,7 @@ pub fn pattern_json(r: &PatternReport) -> Value {
                 "phase_rad": w.phase,
             })
         })
-        .collect();
-    v["unpaired_carriers"] = match unpaired(r) {
-        Some((c, carriers, small)) => json!({
-            "charge_density_correlation_with_gap_squared": c,
-            "carriers": carriers,
-            "collect_where": if small { "|Delta(r)| is small" } else { "|Delta(r)| is large" },
-        }),
-        None => Value::Null,
-    };
-    v["field_of_view_nm"] = json!(r.fov);
-    v["warnings"] = json!(r.model.warnings());
-    v
+        .collect()
 }
 
 /// The correlation of the second-order charge (electron) density with |Delta(r)|^2, which carriers
@@ -141,6 +168,21 @@ fn g4(x: f64) -> String {
 
 /// The text report.
 pub fn pattern_text(r: &PatternReport) -> String {
+    let mut s = line_text(r);
+    s += &structures_text(r);
+    s += &states_text(r);
+    s += &waves_text(r);
+    if let Some((c, carriers, small)) = unpaired(r) {
+        s += &format!(
+            "the unpaired {carriers} collect where |Delta(r)| is {} (correlation of the second-order charge density with |Delta|^2: {c:.3})\n",
+            if small { "small" } else { "large" }
+        );
+    }
+    s
+}
+
+/// Where the modulated instability line was reached (or why not), and the maxima of chi.
+fn line_text(r: &PatternReport) -> String {
     let ch = channel(r);
     let mut s = String::new();
     match r.line {
@@ -176,59 +218,72 @@ pub fn pattern_text(r: &PatternReport) -> String {
             );
         }
     }
-    if !r.structures.is_empty() {
-        let rows: Vec<Vec<String>> = r
-            .structures
-            .iter()
-            .map(|x| {
-                vec![
-                    format!("{}{}", if x.preferred { "* " } else { "" }, x.name),
-                    format!("{}", x.wavevectors.len()),
-                    g4(x.quartic),
-                    format!("{:.1e}", x.quartic_error),
-                    if x.on_line {
-                        "shared".into()
-                    } else {
-                        format!(
-                            "own ({})",
-                            x.alpha
-                                .iter()
-                                .map(|a| format!("{a:.2e}"))
-                                .collect::<Vec<_>>()
-                                .join(", ")
-                        )
-                    },
-                    if x.phases_matter {
-                        x.phases
-                            .iter()
-                            .map(|p| format!("{:.0}", p.to_degrees()))
-                            .collect::<Vec<_>>()
-                            .join(" ")
-                    } else {
-                        "free".into()
-                    },
-                    if x.first_order {
-                        "first order: higher orders needed".into()
-                    } else {
-                        String::new()
-                    },
-                ]
-            })
-            .collect();
-        s += &text_table(
-            &[
-                "structure",
-                "n",
-                "F4/(n^2 D^4)",
-                "error",
-                "quadratic term",
-                "phases (deg)",
-                "",
-            ],
-            &rows,
-        );
-        s += "* = preferred (smallest positive quartic coefficient at equal quadratic term); F4 in meV^-3 nm^-2 per spin channel.\n";
+    s
+}
+
+/// The table of ranked structures (empty without structures).
+fn structures_text(r: &PatternReport) -> String {
+    if r.structures.is_empty() {
+        return String::new();
     }
+    let mut s = String::new();
+    let rows: Vec<Vec<String>> = r
+        .structures
+        .iter()
+        .map(|x| {
+            vec![
+                format!("{}{}", if x.preferred { "* " } else { "" }, x.name),
+                format!("{}", x.wavevectors.len()),
+                g4(x.quartic),
+                format!("{:.1e}", x.quartic_error),
+                if x.on_line {
+                    "shared".into()
+                } else {
+                    format!(
+                        "own ({})",
+                        x.alpha
+                            .iter()
+                            .map(|a| format!("{a:.2e}"))
+                            .collect::<Vec<_>>()
+                            .join(", ")
+                    )
+                },
+                if x.phases_matter {
+                    x.phases
+                        .iter()
+                        .map(|p| format!("{:.0}", p.to_degrees()))
+                        .collect::<Vec<_>>()
+                        .join(" ")
+                } else {
+                    "free".into()
+                },
+                if x.first_order {
+                    "first order: higher orders needed".into()
+                } else {
+                    String::new()
+                },
+            ]
+        })
+        .collect();
+    s += &text_table(
+        &[
+            "structure",
+            "n",
+            "F4/(n^2 D^4)",
+            "error",
+            "quadratic term",
+            "phases (deg)",
+            "",
+        ],
+        &rows,
+    );
+    s += "* = preferred (smallest positive quartic coefficient at equal quadratic term); F4 in meV^-3 nm^-2 per spin channel.\n";
+    s
+}
+
+/// The table of candidate states, the chosen one starred.
+fn states_text(r: &PatternReport) -> String {
+    let mut s = String::new();
     s += "\nstates at the configuration as given:\n";
     let rows: Vec<Vec<String>> = r
         .candidates
@@ -252,43 +307,44 @@ pub fn pattern_text(r: &PatternReport) -> String {
         &["state", "Omega (meV/nm^2)", "|Delta_j| (meV)", "notes"],
         &rows,
     );
-    if !r.waves.is_empty() {
-        s += "\ndensity modulation of the chosen state:\n";
-        let rows: Vec<Vec<String>> = r
-            .waves
-            .iter()
-            .map(|w| {
-                vec![
-                    w.kind.to_string(),
-                    format!("{}", w.order),
-                    format!(
-                        "({:.5}, {:.5})",
-                        w.wavevector_per_nm[0], w.wavevector_per_nm[1]
-                    ),
-                    w.period_nm
-                        .map(|p| format!("{p:.4}"))
-                        .unwrap_or_else(|| "uniform".into()),
-                    g4(w.amplitude_per_nm2),
-                ]
-            })
-            .collect();
-        s += &text_table(
-            &[
-                "kind",
-                "order",
-                "P (1/nm)",
-                "period (nm)",
-                "amplitude (1/nm^2)",
-            ],
-            &rows,
-        );
+    s
+}
+
+/// The table of the chosen state's density waves (empty without waves).
+fn waves_text(r: &PatternReport) -> String {
+    if r.waves.is_empty() {
+        return String::new();
     }
-    if let Some((c, carriers, small)) = unpaired(r) {
-        s += &format!(
-            "the unpaired {carriers} collect where |Delta(r)| is {} (correlation of the second-order charge density with |Delta|^2: {c:.3})\n",
-            if small { "small" } else { "large" }
-        );
-    }
+    let mut s = String::new();
+    s += "\ndensity modulation of the chosen state:\n";
+    let rows: Vec<Vec<String>> = r
+        .waves
+        .iter()
+        .map(|w| {
+            vec![
+                w.kind.to_string(),
+                format!("{}", w.order),
+                format!(
+                    "({:.5}, {:.5})",
+                    w.wavevector_per_nm[0], w.wavevector_per_nm[1]
+                ),
+                w.period_nm
+                    .map(|p| format!("{p:.4}"))
+                    .unwrap_or_else(|| "uniform".into()),
+                g4(w.amplitude_per_nm2),
+            ]
+        })
+        .collect();
+    s += &text_table(
+        &[
+            "kind",
+            "order",
+            "P (1/nm)",
+            "period (nm)",
+            "amplitude (1/nm^2)",
+        ],
+        &rows,
+    );
     s
 }
 
@@ -303,28 +359,58 @@ pub fn map_resolution(waves: &[DensityWave], fov: f64) -> usize {
 
 /// Writes `<stem>.json`, `<stem>.png` and `<stem>.svg` (the map of the first wave's kind) into
 /// `out`; returns the paths.
-pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<PathBuf>, String> {
-    let mut written = Vec::new();
-    let json_path = out.join(format!("{stem}.json"));
-    let text = serde_json::to_string_pretty(&pattern_json(r)).unwrap_or_default();
-    super::atomic::write_atomic(&json_path, text.as_bytes())
-        .map_err(|e| format!("cannot write {}: {e}", json_path.display()))?;
-    written.push(json_path);
+pub fn write_pattern(
+    r: &PatternReport,
+    out: &Path,
+    stem: &str,
+) -> Result<Vec<PathBuf>, ReportError> {
+    let mut written = vec![write_json(
+        out.join(format!("{stem}.json")),
+        &pattern_json(r),
+    )?];
     // The map shows the modulated waves (P != 0) of the first such wave's kind.
     let Some(first) = r.waves.iter().find(|w| w.period_nm.is_some()) else {
         return Ok(written);
     };
-    let kind = first.kind;
+    let stem_path = out.join(stem);
+    write_density_plot(&density_plot(r, first.kind), &stem_path)?;
+    written.extend(figure_files(&stem_path));
+    Ok(written)
+}
+
+/// The density map of the waves of one kind beside their Fourier peaks.
+fn density_plot(r: &PatternReport, kind: &str) -> DensityPlot {
     let n = map_resolution(r.waves, r.fov);
-    let density = density_map(r.waves, kind, r.fov, n);
+    let state = r
+        .candidates
+        .get(r.chosen)
+        .map(|c| c.name.clone())
+        .unwrap_or_default();
+    let t = r.line.map(|l| mev_to_kelvin(l.t)).unwrap_or(f64::NAN);
+    DensityPlot {
+        title: format!(
+            "{kind} density modulation, channel {} ({state}), T = {t:.3} K",
+            channel(r).label()
+        ),
+        fov_nm: r.fov,
+        n,
+        density: density_map(r.waves, kind, r.fov, n),
+        colorbar_label: format!("{kind} density modulation (1/nm^2)"),
+        peaks: fourier_peaks(r.waves, kind),
+        k_extent: 0.0,
+    }
+}
+
+/// The Fourier peaks `(kx, ky, amplitude, label)` of the modulated waves of one kind, each with
+/// its mirror image; first-order peaks are labelled P1, P2, ..., difference harmonics
+/// "q_i - q_j", and a peak crowding a labelled one stays unlabelled.
+fn fourier_peaks(waves: &[DensityWave], kind: &str) -> Vec<(f64, f64, f64, String)> {
     let mut peaks: Vec<(f64, f64, f64, String)> = Vec::new();
-    let kmax = r
-        .waves
+    let kmax = waves
         .iter()
         .map(|w| w.wavevector_per_nm[0].hypot(w.wavevector_per_nm[1]))
         .fold(0.0, f64::max);
-    for (i, w) in r
-        .waves
+    for (i, w) in waves
         .iter()
         .filter(|w| w.kind == kind && w.period_nm.is_some())
         .enumerate()
@@ -343,30 +429,7 @@ pub fn write_pattern(r: &PatternReport, out: &Path, stem: &str) -> Result<Vec<Pa
         peaks.push((p[0], p[1], w.amplitude_per_nm2, label));
         peaks.push((-p[0], -p[1], w.amplitude_per_nm2, String::new()));
     }
-    let ch = channel(r);
-    let state = r
-        .candidates
-        .get(r.chosen)
-        .map(|c| c.name.clone())
-        .unwrap_or_default();
-    let t = r.line.map(|l| mev_to_kelvin(l.t)).unwrap_or(f64::NAN);
-    let plot = DensityPlot {
-        title: format!(
-            "{kind} density modulation, channel {} ({state}), T = {t:.3} K",
-            ch.label()
-        ),
-        fov_nm: r.fov,
-        n,
-        density,
-        colorbar_label: format!("{kind} density modulation (1/nm^2)"),
-        peaks,
-        k_extent: 0.0,
-    };
-    let stem_path = out.join(stem);
-    write_density_plot(&plot, &stem_path).map_err(|e| e.to_string())?;
-    written.push(stem_path.with_extension("png"));
-    written.push(stem_path.with_extension("svg"));
-    Ok(written)
+    peaks
 }
 
 /// Correlation of the second-order density waves with |Delta(r)|^2 over the field of view

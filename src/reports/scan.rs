@@ -2,9 +2,10 @@
 //! Tc against one parameter with the uniform and modulated curves and the Lifshitz point, or a
 //! colour map of Tc over two parameters with the region where the modulated state wins outlined.
 
-use super::atomic::write_atomic;
+use super::error::ReportError;
 use super::figures::{write_line_plot, write_map_plot, Dash, LinePlot, MapPlot, Marker, Series};
-use super::tables::{header, scan_columns, scan_rows, text_table};
+use super::files::{figure_files, write_csv, write_json};
+use super::tables::{channel_tc_json, header, scan_columns, scan_rows, text_table};
 use crate::config::ConfigSource;
 use crate::model::Model;
 use crate::solvers::tc_channel::Method;
@@ -28,7 +29,8 @@ pub fn key_unit(key: &str) -> &'static str {
     }
 }
 
-fn axis_label(grid: &Grid, i: usize) -> String {
+/// Label of swept axis `i`: its path and, when known, its unit.
+pub(crate) fn axis_label(grid: &Grid, i: usize) -> String {
     let a = &grid.axes[i];
     let u = key_unit(&a.key);
     if u.is_empty() {
@@ -69,24 +71,38 @@ pub fn write_scan(
     method: Method,
     out: &Path,
     stem: &str,
-) -> Result<Vec<PathBuf>, String> {
+) -> Result<Vec<PathBuf>, ReportError> {
     let labels: Vec<String> = m.channels().iter().map(|c| c.label().to_string()).collect();
-    let mut written = Vec::new();
-    // CSV
-    let mut w = csv::Writer::from_writer(Vec::new());
-    let io = |e: csv::Error| format!("cannot format the CSV: {e}");
-    w.write_record(scan_columns(grid)).map_err(io)?;
-    for r in scan_rows(points, &labels) {
-        w.write_record(r).map_err(io)?;
-    }
-    let bytes = w
-        .into_inner()
-        .map_err(|e| format!("cannot format the CSV: {e}"))?;
     let csv_path = out.join(format!("{stem}.csv"));
-    write_atomic(&csv_path, &bytes)
-        .map_err(|e| format!("cannot write {}: {e}", csv_path.display()))?;
-    written.push(csv_path);
-    // JSON
+    let mut written = vec![write_csv(
+        csv_path,
+        scan_columns(grid),
+        scan_rows(points, &labels),
+    )?];
+    let v = scan_json(src, m, grid, points, method);
+    written.push(write_json(out.join(format!("{stem}.json")), &v)?);
+    // Figures, one per channel.
+    for (c, label) in labels.iter().enumerate() {
+        let fig_stem = out.join(format!("{stem}_tc_{label}"));
+        if grid.axes.len() == 1 {
+            write_line_plot(&tc_curve_plot(grid, points, c, label, method), &fig_stem)?;
+        } else {
+            write_map_plot(&tc_map_plot(grid, points, c, label), &fig_stem)?;
+        }
+        written.extend(figure_files(&fig_stem));
+    }
+    Ok(written)
+}
+
+/// The JSON report of a scan: the swept axes, every point's channels, and on a 1D scan the
+/// Lifshitz point of each channel.
+fn scan_json(
+    src: &ConfigSource,
+    m: &Model,
+    grid: &Grid,
+    points: &[ScanPoint],
+    method: Method,
+) -> Value {
     let mut v = header(src, "scan");
     v["method"] = json!(method);
     v["vary"] = Value::Array(
@@ -103,7 +119,7 @@ pub fn write_scan(
                 Ok(chs) => json!({
                     "values": p.values,
                     "status": "ok",
-                    "channels": chs.iter().zip(m.channels()).map(|(r, c)| super::tables::channel_tc_json(m, c, r)).collect::<Vec<_>>(),
+                    "channels": chs.iter().zip(m.channels()).map(|(r, c)| channel_tc_json(m, c, r)).collect::<Vec<_>>(),
                 }),
                 Err(e) => json!({"values": p.values, "status": "failed", "reason": e.to_string()}),
             })
@@ -111,127 +127,118 @@ pub fn write_scan(
     );
     if grid.axes.len() == 1 {
         v["lifshitz"] = Value::Array(
-            (0..labels.len())
-                .map(|c| match lifshitz_on_curve(points, c) {
-                    Some((x, t)) => json!({"channel": labels[c], "value": x, "temperature_K": t}),
-                    None => json!({"channel": labels[c], "value": null, "temperature_K": null}),
+            m.channels()
+                .iter()
+                .enumerate()
+                .map(|(c, ch)| match lifshitz_on_curve(points, c) {
+                    Some((x, t)) => json!({"channel": ch.label(), "value": x, "temperature_K": t}),
+                    None => json!({"channel": ch.label(), "value": null, "temperature_K": null}),
                 })
                 .collect(),
         );
     }
-    let json_path = out.join(format!("{stem}.json"));
-    write_atomic(
-        &json_path,
-        serde_json::to_string_pretty(&v)
-            .unwrap_or_default()
-            .as_bytes(),
-    )
-    .map_err(|e| format!("cannot write {}: {e}", json_path.display()))?;
-    written.push(json_path);
-    // Figures, one per channel.
-    for (c, label) in labels.iter().enumerate() {
-        let fig_stem = out.join(format!("{stem}_tc_{label}"));
-        if grid.axes.len() == 1 {
-            let mut uni = Vec::new();
-            let mut md = Vec::new();
-            for p in points {
-                let y = p.result.as_ref().ok().and_then(|r| r.get(c));
-                let x = p.values[0];
-                match y {
-                    Some(r) => {
-                        uni.push((
-                            x,
-                            if r.uniform.tc > 0.0 {
-                                mev_to_kelvin(r.uniform.tc)
-                            } else {
-                                f64::NAN
-                            },
-                        ));
-                        md.push((
-                            x,
-                            if r.modulated.tc.tc > 0.0 {
-                                mev_to_kelvin(r.modulated.tc.tc)
-                            } else {
-                                f64::NAN
-                            },
-                        ));
-                    }
-                    None => {
-                        uni.push((x, f64::NAN));
-                        md.push((x, f64::NAN));
-                    }
-                }
-            }
-            let mut markers = Vec::new();
-            if let Some((x, t)) = lifshitz_on_curve(points, c) {
-                markers.push(Marker {
-                    label: "Lifshitz point (q* leaves 0)".into(),
-                    x,
-                    y: t,
-                    color: 3,
-                });
-            }
-            let plot = LinePlot {
-                title: format!("Critical temperature, channel {label}"),
-                x_label: axis_label(grid, 0),
-                y_label: "Tc (K)".into(),
-                series: vec![
-                    Series {
-                        label: "uniform (q = 0)".into(),
-                        points: uni,
-                        dash: Dash::Dashed,
-                        color: 0,
-                    },
-                    Series {
-                        label: "modulated (max over q)".into(),
-                        points: md,
-                        dash: Dash::Solid,
-                        color: 1,
-                    },
-                ],
-                markers,
-                bands: vec![],
-                notes: vec![
-                    format!("method: {method:?}"),
-                    "g fixed at the base configuration".into(),
-                ],
-            };
-            write_line_plot(&plot, &fig_stem).map_err(|e| e.to_string())?;
-        } else {
-            let (xs, ys) = (grid.axes[0].values(), grid.axes[1].values());
-            let mut values = Vec::new();
-            let mut outline = Vec::new();
-            for p in points {
-                match p.result.as_ref().ok().and_then(|r| r.get(c)) {
-                    Some(r) => {
-                        values.push(Some(mev_to_kelvin(r.modulated.tc.tc)));
-                        outline.push(r.modulated_wins());
-                    }
-                    None => {
-                        values.push(None);
-                        outline.push(false);
-                    }
-                }
-            }
-            let plot = MapPlot {
-                title: format!("Critical temperature, channel {label}"),
-                x_label: axis_label(grid, 0),
-                y_label: axis_label(grid, 1),
-                colorbar_label: "Tc (K), max over q".into(),
-                xs,
-                ys,
-                values,
-                outline,
-                outline_label: "modulated state wins (q* != 0)".into(),
-                series: vec![],
-                markers: vec![],
-            };
-            write_map_plot(&plot, &fig_stem).map_err(|e| e.to_string())?;
-        }
-        written.push(fig_stem.with_extension("png"));
-        written.push(fig_stem.with_extension("svg"));
+    v
+}
+
+/// A temperature in K where positive (meV in), NaN where not (no instability: the curve is
+/// interrupted there).
+pub(crate) fn kelvin_or_nan(t: f64) -> f64 {
+    if t > 0.0 {
+        mev_to_kelvin(t)
+    } else {
+        f64::NAN
     }
-    Ok(written)
+}
+
+/// Points `(parameter, T in K)` of a curve.
+type Curve = Vec<(f64, f64)>;
+
+/// Tc of channel `c` along a 1D scan: the uniform and the modulated curves (K, NaN where absent
+/// or failed).
+fn tc_curves(points: &[ScanPoint], c: usize) -> (Curve, Curve) {
+    points
+        .iter()
+        .map(|p| {
+            let x = p.values[0];
+            match p.result.as_ref().ok().and_then(|r| r.get(c)) {
+                Some(r) => (
+                    (x, kelvin_or_nan(r.uniform.tc)),
+                    (x, kelvin_or_nan(r.modulated.tc.tc)),
+                ),
+                None => ((x, f64::NAN), (x, f64::NAN)),
+            }
+        })
+        .unzip()
+}
+
+/// The figure of a 1D scan for channel `c`: uniform and modulated Tc, the Lifshitz point.
+fn tc_curve_plot(
+    grid: &Grid,
+    points: &[ScanPoint],
+    c: usize,
+    label: &str,
+    method: Method,
+) -> LinePlot {
+    let (uni, md) = tc_curves(points, c);
+    let markers = lifshitz_on_curve(points, c)
+        .map(|(x, t)| Marker {
+            label: "Lifshitz point (q* leaves 0)".into(),
+            x,
+            y: t,
+            color: 3,
+        })
+        .into_iter()
+        .collect();
+    LinePlot {
+        title: format!("Critical temperature, channel {label}"),
+        x_label: axis_label(grid, 0),
+        y_label: "Tc (K)".into(),
+        series: vec![
+            Series {
+                label: "uniform (q = 0)".into(),
+                points: uni,
+                dash: Dash::Dashed,
+                color: 0,
+            },
+            Series {
+                label: "modulated (max over q)".into(),
+                points: md,
+                dash: Dash::Solid,
+                color: 1,
+            },
+        ],
+        markers,
+        bands: vec![],
+        notes: vec![
+            format!("method: {method:?}"),
+            "g fixed at the base configuration".into(),
+        ],
+    }
+}
+
+/// The figure of a 2D scan for channel `c`: Tc (max over q) as a colour map, the cells where the
+/// modulated state wins outlined.
+fn tc_map_plot(grid: &Grid, points: &[ScanPoint], c: usize, label: &str) -> MapPlot {
+    let (values, outline) = points
+        .iter()
+        .map(|p| match p.result.as_ref().ok().and_then(|r| r.get(c)) {
+            Some(r) => (Some(mev_to_kelvin(r.modulated.tc.tc)), r.modulated_wins()),
+            None => (None, false),
+        })
+        .unzip();
+    MapPlot {
+        title: format!("Critical temperature, channel {label}"),
+        x_label: axis_label(grid, 0),
+        y_label: axis_label(grid, 1),
+        colorbar_label: "Tc (K), max over q".into(),
+        xs: grid.axes[0].values(),
+        ys: grid.axes[1].values(),
+        values,
+        outline,
+        outline_label: "modulated state wins (q* != 0)".into(),
+        series: vec![],
+        markers: vec![],
+    }
 }
 
 /// A short text summary of a scan for the terminal.

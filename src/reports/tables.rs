@@ -2,6 +2,7 @@
 //! provenance header (program version, configuration, units). Results arrive in meV; the tables
 //! show temperatures in K.
 
+use super::files::failed_cells;
 use crate::config::ConfigSource;
 use crate::model::{Channel, CouplingInput, Model, Pocket, Spin};
 use crate::solvers::tc::nested_tc;
@@ -150,8 +151,41 @@ pub fn check_text(m: &Model) -> String {
     let mut s = String::from(
         "Pockets (momenta 1/nm, energies meV, hbar v meV nm, densities 1/nm^2, DOS 1/(meV nm^2))\n",
     );
-    let rows: Vec<Vec<String>> = m
-        .pockets()
+    let rows = pocket_rows(m);
+    s += &text_table(
+        &[
+            "pocket", "kind", "center", "offset", "kF x/y", "vF x/y", "density", "DOS", "spin",
+        ],
+        &rows,
+    );
+    if m.channels().is_empty() {
+        s += "\nNo channels.\n";
+        return s;
+    }
+    s += "\nChannels (nu per spin channel 1/(meV nm^2), g meV nm^2, cutoff and mismatch meV, Tc0 = 1.134 cutoff exp(-1/lambda) in K)\n";
+    let rows = channel_rows(m);
+    s += &text_table(
+        &[
+            "channel",
+            "pockets",
+            "nu",
+            "g",
+            "lambda",
+            "cutoff",
+            "M",
+            "n_s",
+            "mismatch h",
+            "Ka-Kb",
+            "Tc0 K",
+        ],
+        &rows,
+    );
+    s
+}
+
+/// Rows of the pocket table of `nestor check`.
+fn pocket_rows(m: &Model) -> Vec<Vec<String>> {
+    m.pockets()
         .iter()
         .map(|p| {
             let (x, y) = ([1.0, 0.0], [0.0, 1.0]);
@@ -180,20 +214,12 @@ pub fn check_text(m: &Model) -> String {
                 },
             ]
         })
-        .collect();
-    s += &text_table(
-        &[
-            "pocket", "kind", "center", "offset", "kF x/y", "vF x/y", "density", "DOS", "spin",
-        ],
-        &rows,
-    );
-    if m.channels().is_empty() {
-        s += "\nNo channels.\n";
-        return s;
-    }
-    s += "\nChannels (nu per spin channel 1/(meV nm^2), g meV nm^2, cutoff and mismatch meV, Tc0 = 1.134 cutoff exp(-1/lambda) in K)\n";
-    let rows: Vec<Vec<String>> = m
-        .channels()
+        .collect()
+}
+
+/// Rows of the channel table of `nestor check`.
+fn channel_rows(m: &Model) -> Vec<Vec<String>> {
+    m.channels()
         .iter()
         .map(|c| {
             let q = c.nesting_vector(m);
@@ -228,24 +254,7 @@ pub fn check_text(m: &Model) -> String {
                     .unwrap_or_else(|| "-".into()),
             ]
         })
-        .collect();
-    s += &text_table(
-        &[
-            "channel",
-            "pockets",
-            "nu",
-            "g",
-            "lambda",
-            "cutoff",
-            "M",
-            "n_s",
-            "mismatch h",
-            "Ka-Kb",
-            "Tc0 K",
-        ],
-        &rows,
-    );
-    s
+        .collect()
 }
 
 /// One channel's Tc result as JSON (temperatures in K).
@@ -429,18 +438,8 @@ pub fn scan_rows(points: &[ScanPoint], channel_labels: &[String]) -> Vec<Vec<Str
             Err(e) => {
                 for l in channel_labels {
                     let mut row = vals.clone();
-                    row.extend([
-                        l.clone(),
-                        "failed".into(),
-                        String::new(),
-                        String::new(),
-                        String::new(),
-                        String::new(),
-                        String::new(),
-                        String::new(),
-                        String::new(),
-                        e.to_string(),
-                    ]);
+                    row.push(l.clone());
+                    row.extend(failed_cells(7, &e.to_string()));
                     rows.push(row);
                 }
             }
@@ -546,7 +545,7 @@ pub fn ordered_text(
 }
 
 /// First-order density modulation of a single-wavevector state (physics.md section 6): at
-/// P = K_a - K_b + q (folded into the first zone when a `[surface]` lattice is given), amplitude
+/// P = K_a - K_b + q (folded into the first zone when a [surface] lattice is given), amplitude
 /// 2 n_s |m_ab Delta| / g per nm^2 (charge for M = 1, spin density along i for M = sigma_i).
 pub fn density_modulation(m: &Model, c: &Channel, s: &crate::solvers::ordered::Solution) -> Value {
     if s.delta <= 0.0 {
