@@ -16,7 +16,7 @@ use nestor::kernels::harmonics::{
     omega_components, omega_multi, omega_on_grid, ray_symmetry, HarmonicGrid, HarmonicSet,
     RaySymmetry,
 };
-use nestor::kernels::{weak, Accuracy, Shell};
+use nestor::kernels::{Accuracy, Shell};
 use nestor::model::structure::Structure;
 use nestor::model::Model;
 use nestor::solvers::ordered::OrderedSolver;
@@ -42,7 +42,7 @@ fn pair_at(h: f64) -> Model {
 /// along x for the reference pair.
 fn q_star(m: &Model, t: f64, h: f64) -> f64 {
     let v = m.pockets[0].fermi_velocity_along([1.0, 0.0]);
-    let (_, q) = weak::modulated_point(t, h).unwrap();
+    let (_, q) = nestor::solvers::tc::weak::modulated_point(t, h).unwrap();
     2.0 * q * tc0() / v
 }
 

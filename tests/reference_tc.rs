@@ -10,8 +10,8 @@
 mod common;
 
 use common::*;
-use nestor::kernels::weak;
 use nestor::solvers::roots::brent_root;
+use nestor::solvers::tc::weak;
 use nestor::solvers::{TcSolver, TcStatus};
 
 /// Tolerances (relative unless said otherwise), each with its reason.

@@ -5,6 +5,7 @@ use crate::error::{NestorError, NumericalError};
 use crate::kernels::weak;
 use crate::kernels::Shell;
 use crate::model::{Channel, Model};
+use crate::solvers::tc::weak as weak_tc;
 use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus};
 
 /// How the critical temperature is computed.
@@ -138,8 +139,8 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             evaluations: 0,
         },
     };
-    let uniform = report(weak::uniform_tc(h).map_err(weak_err)?);
-    let (mod_t, q) = match weak::modulated_tc(h).map_err(weak_err)? {
+    let uniform = report(weak_tc::uniform_tc(h).map_err(weak_err)?);
+    let (mod_t, q) = match weak_tc::modulated_tc(h).map_err(weak_err)? {
         Some((t, qq)) => (Some(t), qq),
         None => (None, 0.0),
     };

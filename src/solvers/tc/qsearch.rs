@@ -1,0 +1,318 @@
+//! Searches over the wavevector at one temperature for the critical-temperature solver: the
+//! coarse global grid, its refinement and the local maximisation of g chi(q, T) over q.
+
+use super::parabolic::*;
+use super::qgrid::*;
+use super::TcSolver;
+use crate::error::NumericalError;
+use crate::kernels::Accuracy;
+use crate::model::{Channel, Model};
+use std::cell::Cell;
+
+impl TcSolver {
+    /// The coarse global scan over q at one temperature: |q| on a grid of `q_points` up to
+    /// 4 (|h| + 2T)/v (doubled, up to three times, while the best point sits at the edge) along
+    /// `directions` directions over 180 degrees (one for an isotropic channel), and, where q = 0
+    /// is the best grid point, a probe at a quarter of the spacing for a maximum below the first
+    /// grid point.
+    pub(super) fn grid_scan(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        acc: &Accuracy,
+        iso: bool,
+        count: &Cell<usize>,
+    ) -> Result<QGrid, NumericalError> {
+        let eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
+            count.set(count.get() + 1);
+            self.g_chi(model, ch, q, t, acc)
+        };
+        let dirs: Vec<f64> = if iso {
+            vec![0.0]
+        } else {
+            (0..self.directions.max(1))
+                .map(|i| std::f64::consts::PI * i as f64 / self.directions.max(1) as f64)
+                .collect()
+        };
+        let mut qmax = 2.0 * self.q_scale(model, ch, t);
+        // chi depends on q only through eps_a(k + q): its structure in q is smeared over
+        // |q| ~ T / v_a.
+        let v_max = {
+            let a = &model.pockets[ch.a];
+            [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]]
+                .iter()
+                .map(|d| a.fermi_velocity_along(*d))
+                .fold(0.0, f64::max)
+        };
+        // Where T is large enough, fewer points already resolve chi(q) on its thermal scale
+        // (steps of at most 2 T / v_max, see `QGrid::upper_at`).
+        let resolving = (qmax * v_max / (2.0 * t)).ceil() as usize + 1;
+        let n = self.q_points.min(resolving.max(MIN_Q_POINTS)).max(4);
+        let zero = eval([0.0, 0.0])?;
+        let mut values: Vec<Vec<f64>> = Vec::new();
+        let mut extend = 0;
+        loop {
+            let dq = qmax / (n - 1) as f64;
+            let mut rows = Vec::with_capacity(dirs.len());
+            for (j, &phi) in dirs.iter().enumerate() {
+                let mut row = Vec::with_capacity(n);
+                row.push(zero);
+                for i in 1..n {
+                    // After doubling the range, the even points of the old grid are reused.
+                    let v = match values.get(j) {
+                        Some(old) if 2 * i < n => old[2 * i],
+                        _ => eval(polar(dq * i as f64, phi))?,
+                    };
+                    row.push(v);
+                }
+                rows.push(row);
+            }
+            values = rows;
+            let mut grid = QGrid::new(dirs.clone(), dq, zero, values.clone());
+            grid.thermal_q = t / v_max;
+            if grid.best.1 == n - 1 && extend < 3 {
+                qmax *= 2.0;
+                extend += 1;
+                continue;
+            }
+            if grid.best.1 == 0 {
+                // A maximum below the first grid point shows as a rise at a quarter spacing.
+                let small = 0.25 * dq;
+                let mut rise: Option<(usize, f64)> = None;
+                for (j, &phi) in dirs.iter().enumerate() {
+                    let v = eval(polar(small, phi))?;
+                    if v > zero && rise.is_none_or(|(_, b)| v > b) {
+                        rise = Some((j, v));
+                    }
+                }
+                grid.small = rise.map(|(j, v)| (j, small, v));
+            }
+            return Ok(grid);
+        }
+    }
+
+    /// Refinement of the best point of a grid scan (at the grid's accuracy). q = 0 when the
+    /// uniform susceptibility is the largest.
+    #[allow(clippy::too_many_arguments)]
+    pub(super) fn refine_grid(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        acc: &Accuracy,
+        iso: bool,
+        grid: &QGrid,
+        tol: Option<f64>,
+        count: &Cell<usize>,
+    ) -> Result<QMax, NumericalError> {
+        let zero = QMax {
+            q: [0.0, 0.0],
+            value: grid.zero,
+            shortfall: 0.0,
+            curv_r: 0.0,
+            curv_phi: 0.0,
+        };
+        let (j, i) = grid.best;
+        let start = if i == 0 {
+            let Some((j, small, v)) = grid.small else {
+                return Ok(zero);
+            };
+            Start {
+                q: polar(small, grid.dirs[j]),
+                step_r: small,
+                step_phi: grid.dir_step(),
+                known: [Some(grid.zero), Some(v), None],
+                tol,
+            }
+        } else {
+            Start {
+                q: grid.q_at(j, i),
+                step_r: grid.dq,
+                step_phi: grid.dir_step(),
+                known: [
+                    Some(grid.values[j][i - 1]),
+                    Some(grid.values[j][i]),
+                    grid.values[j].get(i + 1).copied(),
+                ],
+                tol,
+            }
+        };
+        let m = self.local_max(model, ch, t, acc, iso, start, count)?;
+        if m.value <= grid.zero {
+            return Ok(zero);
+        }
+        Ok(m)
+    }
+
+    /// Local maximum of g chi(q, T) over q from `start`: successive parabolic interpolation in
+    /// |q| and, for anisotropic channels, alternately in the direction (and along each round's
+    /// displacement), until a round gains less than the start's tolerance (by default a
+    /// hundredth of the susceptibility target).
+    #[allow(clippy::too_many_arguments)]
+    pub(super) fn local_max(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        acc: &Accuracy,
+        iso: bool,
+        start: Start,
+        count: &Cell<usize>,
+    ) -> Result<QMax, NumericalError> {
+        let eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
+            count.set(count.get() + 1);
+            self.g_chi(model, ch, q, t, acc)
+        };
+        let tol_rel = start.tol.unwrap_or(VALUE_TOL * acc.rtol);
+        let mut qm = start.q[0].hypot(start.q[1]);
+        let mut phi = if iso || qm == 0.0 {
+            0.0
+        } else {
+            start.q[1].atan2(start.q[0])
+        };
+        let (mut sr, mut sp) = (start.step_r.abs(), start.step_phi.abs());
+        let mut known = start.known;
+        let scale = qm.max(sr);
+        for round in 0..MAX_ROUNDS {
+            let (q0, p0) = (qm, phi);
+            let m = parabolic_max("q* magnitude", qm, sr, known, tol_rel, 1e-10 * scale, |x| {
+                eval(polar(x.abs(), phi))
+            })?;
+            let round_start = m.start;
+            qm = m.x.abs();
+            if iso || qm == 0.0 {
+                return Ok(QMax {
+                    q: polar(qm, phi),
+                    value: m.value,
+                    shortfall: m.gain,
+                    curv_r: m.curvature,
+                    curv_phi: 0.0,
+                });
+            }
+            let d = parabolic_max(
+                "q* direction",
+                phi,
+                sp,
+                [None, Some(m.value), None],
+                tol_rel,
+                1e-10,
+                |p| eval(polar(qm, p)),
+            )?;
+            phi = d.x;
+            let mut value = d.value;
+            if value - round_start <= tol_rel * value.abs() {
+                return Ok(QMax {
+                    q: polar(qm, phi),
+                    value,
+                    shortfall: (value - round_start).max(0.0) + m.gain + d.gain,
+                    curv_r: m.curvature,
+                    curv_phi: d.curvature,
+                });
+            }
+            let (dq, dp) = (qm - q0, phi - p0);
+            if round > 0 {
+                // A ridge across the axes: search along this round's displacement too.
+                let line = parabolic_max(
+                    "q* along the ridge",
+                    0.0,
+                    1.0,
+                    [None, Some(value), None],
+                    tol_rel,
+                    1e-9,
+                    |x| eval(polar(qm + x * dq, phi + x * dp)),
+                )?;
+                if line.value > value {
+                    qm += line.x * dq;
+                    phi += line.x * dp;
+                    if qm < 0.0 {
+                        qm = -qm;
+                        phi += std::f64::consts::PI;
+                    }
+                    value = line.value;
+                }
+            }
+            sr = dq.abs().max(MIN_STEP * qm);
+            sp = dp.abs().max(MIN_STEP);
+            known = [None, Some(value), None];
+        }
+        Err(NumericalError::NotConverged {
+            what: format!(
+                "maximum of chi over q of channel {} at T = {t:.6e} meV",
+                ch.label
+            ),
+            iterations: MAX_ROUNDS,
+            last_change: f64::NAN,
+            target: tol_rel,
+        })
+    }
+
+    /// One temperature of the downward scan: the coarse global estimate of max over q of g chi,
+    /// refined only where the grid leaves a refinement able to reach 1.
+    ///
+    /// `prev` is the maximum refined at the previous (higher) temperature: where it lies next to
+    /// the best grid point, the refinement starts from it with a short step, which locates a
+    /// peak sharpened by the low temperature in fewer steps than from the grid spacing.
+    pub(super) fn scan_point(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        t: f64,
+        iso: bool,
+        prev: Option<[f64; 2]>,
+        count: &Cell<usize>,
+    ) -> Result<ScanPoint, NumericalError> {
+        let coarse = self.acc.coarse();
+        let grid = self.grid_scan(model, ch, t, &coarse, iso, count)?;
+        let (j, i) = grid.best;
+        if i == 0 && grid.small.is_none() {
+            return Ok(ScanPoint {
+                t,
+                q: [0.0, 0.0],
+                value: grid.zero,
+                refined: true,
+            });
+        }
+        if i > 0 && grid.upper_at(j, i) < 1.0 {
+            return Ok(ScanPoint {
+                t,
+                q: grid.q_at(j, i),
+                value: grid.values[j][i],
+                refined: false,
+            });
+        }
+        if let Some(p) = prev.filter(|_| i > 0) {
+            let (pm, pphi) = (p[0].hypot(p[1]), p[1].atan2(p[0]));
+            let dphi = (pphi - grid.dirs[j] + 0.5 * std::f64::consts::PI)
+                .rem_euclid(std::f64::consts::PI)
+                - 0.5 * std::f64::consts::PI;
+            let close = (pm - grid.dq * i as f64).abs() <= grid.dq
+                && (iso || dphi.abs() <= grid.dir_step());
+            if close && pm > 0.0 {
+                let start = Start {
+                    q: p,
+                    step_r: (4.0 * grid.thermal_q).max(MIN_STEP * pm).min(grid.dq),
+                    step_phi: (4.0 * grid.thermal_q / pm).clamp(MIN_STEP, grid.dir_step()),
+                    known: [None; 3],
+                    tol: Some(SCAN_TOL),
+                };
+                let m = self.local_max(model, ch, t, &coarse, iso, start, count)?;
+                if m.value >= grid.values[j][i] {
+                    return Ok(ScanPoint {
+                        t,
+                        q: m.q,
+                        value: m.value,
+                        refined: true,
+                    });
+                }
+            }
+        }
+        let m = self.refine_grid(model, ch, t, &coarse, iso, &grid, Some(SCAN_TOL), count)?;
+        Ok(ScanPoint {
+            t,
+            q: m.q,
+            value: m.value,
+            refined: true,
+        })
+    }
+}
