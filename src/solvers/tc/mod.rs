@@ -7,9 +7,13 @@ use crate::error::NumericalError;
 use crate::kernels::susceptibility::{susceptibility, susceptibility_checked};
 use crate::kernels::{Accuracy, Shell};
 use crate::model::{Channel, Model};
-use crate::solvers::optimize::brent_max;
-use crate::solvers::roots::brent_root;
 use std::cell::Cell;
+
+pub use crate::kernels::equation::{nested_tc, q_search_scale};
+use crate::kernels::equation::{EquationError, PairEquation, ShellEquation};
+use crate::solvers::optimize::XTol;
+use crate::solvers::roots::RootTol;
+use root::{tc_at_q, TemperatureScan};
 
 mod modulated;
 mod parabolic;
@@ -90,38 +94,8 @@ pub struct ModulatedTc {
     pub q_error: f64,
 }
 
-/// Scale of |q| (1/nm) for searches over the wavevector: 2 (|h| + 2T)/v, with v the smallest
-/// Fermi velocity of the channel's pockets over a few directions and |h| the largest |h_k| on the
-/// nesting line (v q/2 ~ h is where the modulated instability lies).
-pub fn q_search_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
-    let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
-    let mut v = f64::INFINITY;
-    for d in [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]] {
-        v = v
-            .min(a.fermi_velocity_along(d))
-            .min(b.fermi_velocity_along(d));
-    }
-    let h = ch
-        .mismatch
-        .abs()
-        .max(ch.mismatch_range[0].abs())
-        .max(ch.mismatch_range[1].abs());
-    2.0 * (h + 2.0 * t) / v
-}
-
-/// The nested Tc 1.134 Lambda exp(-1/lambda) in meV (BCS weak coupling), the reference scale of
-/// the searches; None when lambda = 0.
-pub fn nested_tc(ch: &Channel) -> Option<f64> {
-    let l = ch.lambda();
-    if l > 0.0 {
-        Some(crate::kernels::weak::bcs_tc_prefactor() * ch.cutoff * (-1.0 / l).exp())
-    } else {
-        None
-    }
-}
-
 impl TcSolver {
-    /// g chi(q, T).
+    /// g chi(q, T) (q in 1/nm, T in meV): [`ShellEquation`] at accuracy `acc`.
     pub fn g_chi(
         &self,
         model: &Model,
@@ -130,8 +104,8 @@ impl TcSolver {
         t: f64,
         acc: &Accuracy,
     ) -> Result<f64, NumericalError> {
-        let shell = Shell::for_channel(model, ch, q)?;
-        Ok(ch.g * susceptibility(&shell, t, acc)?.value)
+        let eq = ShellEquation::new(model, ch, *acc);
+        Ok(eq.g_chi(q, t).map_err(EquationError::into_numerical)?.value)
     }
 
     /// A temperature above every instability of the channel (g chi(0, T) < 1 there).
@@ -156,61 +130,6 @@ impl TcSolver {
             "channel {}: g chi stays above 1 up to T = {t:.3e} meV",
             ch.label
         )))
-    }
-
-    /// Largest root in T of `f` (f < 0 at `t_top`), scanning down to `t_floor`, then Brent.
-    /// Where no sign change is found the maximum over T is located before concluding.
-    fn largest_root<F>(
-        &self,
-        what: &str,
-        t_top: f64,
-        t_floor: f64,
-        x_rel: f64,
-        mut f: F,
-    ) -> Result<Option<(f64, f64, f64)>, NumericalError>
-    where
-        F: FnMut(f64) -> Result<f64, NumericalError>,
-    {
-        let ratio = 0.8;
-        let mut prev = (t_top, f(t_top)?);
-        if prev.1 >= 0.0 {
-            return Err(NumericalError::Invalid(format!(
-                "{what}: unstable at the top temperature {t_top:.4e} meV"
-            )));
-        }
-        let mut best = prev;
-        let mut grid = vec![prev];
-        let mut t = t_top;
-        while t > t_floor {
-            t = (t * ratio).max(t_floor);
-            let v = f(t)?;
-            grid.push((t, v));
-            if v >= 0.0 {
-                let r = brent_root(what, t, prev.0, x_rel, &mut f)?;
-                return Ok(Some((r.x, t, prev.0)));
-            }
-            if v > best.1 {
-                best = (t, v);
-            }
-            prev = (t, v);
-            if t <= t_floor {
-                break;
-            }
-        }
-        // No sign change on the grid: the curve may poke above zero between two grid points
-        // (the uniform line bends back near its nose). Maximise over ln T around the best point.
-        let i = grid.iter().position(|p| p.0 == best.0).unwrap_or(0);
-        if i == 0 || i + 1 >= grid.len() {
-            return Ok(None);
-        }
-        let (lo, hi) = (grid[i + 1].0.ln(), grid[i - 1].0.ln());
-        let m = brent_max(what, lo, hi, 1e-6, |x| f(x.exp()))?;
-        if m.value >= 0.0 {
-            let tm = m.x.exp();
-            let r = brent_root(what, tm, grid[i - 1].0, x_rel, &mut f)?;
-            return Ok(Some((r.x, tm, grid[i - 1].0)));
-        }
-        Ok(None)
     }
 
     /// Error of a root T of g chi(q, T) = 1 from the checked susceptibility and the slope.
@@ -250,19 +169,19 @@ impl TcSolver {
         };
         let t_top = self.top_temperature(model, ch, &count)?;
         let floor = self.uniform_floor * t_ref;
-        let shell = Shell::for_channel(model, ch, q)?;
-        let found = self.largest_root(
-            &format!("Tc of channel {}", ch.label),
-            t_top,
-            floor,
-            self.t_rel,
-            |t| {
-                count.set(count.get() + 1);
-                Ok(ch.g * susceptibility(&shell, t, &self.acc)?.value - 1.0)
-            },
-        )?;
-        match found {
-            Some((tc, _, _)) => {
+        let scan = TemperatureScan {
+            grid: TemperatureScan::geometric(t_top, floor, 0.8),
+            root: RootTol::relative(self.t_rel),
+            max_tol: XTol::Floor(1e-6),
+            in_log: true,
+            from_best: false,
+        };
+        let what = format!("Tc of channel {} (meV)", ch.label);
+        let eq = ShellEquation::new(model, ch, self.acc);
+        let found = tc_at_q(&eq, q, &what, &scan).map_err(EquationError::into_numerical)?;
+        count.set(count.get() + found.evaluations);
+        match found.t {
+            Some(tc) => {
                 let (error, _) = self.root_error(model, ch, q, tc, &count)?;
                 if error > 1e-5 * tc {
                     return Err(NumericalError::NotConverged {
@@ -349,7 +268,7 @@ impl TcSolver {
     }
 
     /// Curvature d^2 chi / dq^2 at q = 0 along the unit vector `dir` (1/(meV nm^2) nm^2), by
-    /// Richardson-extrapolated central differences (chi(q) = chi(-q)) with steps well below T/v.
+    /// Richardson-extrapolated central differences (see [`ShellEquation::chi_q_curvature`]).
     /// Returns (curvature, error estimate).
     pub fn chi_q_curvature(
         &self,
@@ -358,26 +277,7 @@ impl TcSolver {
         t: f64,
         dir: [f64; 2],
     ) -> Result<(f64, f64), NumericalError> {
-        let acc = Accuracy {
-            rtol: 1e-12,
-            ..self.acc
-        };
-        let v = {
-            let (a, b) = (&model.pockets[ch.a], &model.pockets[ch.b]);
-            a.fermi_velocity_along(dir).max(b.fermi_velocity_along(dir))
-        };
-        let step = 0.1 * t / v;
-        let chi = |q: f64| -> Result<f64, NumericalError> {
-            let shell = Shell::for_channel(model, ch, [q * dir[0], q * dir[1]])?;
-            Ok(susceptibility(&shell, t, &acc)?.value)
-        };
-        let c0 = chi(0.0)?;
-        let c1 = 2.0 * (chi(step)? - c0) / (step * step);
-        let c2 = 2.0 * (chi(0.5 * step)? - c0) / (0.25 * step * step);
-        let c4 = 2.0 * (chi(0.25 * step)? - c0) / (0.0625 * step * step);
-        let r1 = (4.0 * c2 - c1) / 3.0;
-        let r2 = (4.0 * c4 - c2) / 3.0;
-        Ok((r2, (r2 - r1).abs()))
+        ShellEquation::new(model, ch, self.acc).chi_q_curvature(t, dir)
     }
 }
 

@@ -5,6 +5,7 @@
 //! located before concluding that there is none.
 
 use crate::error::NumericalError;
+use crate::kernels::equation::{EquationError, PairEquation};
 use crate::solvers::optimize::{brent_max_from, XTol};
 use crate::solvers::roots::{brent_root_in, Bracket, RootTol};
 
@@ -133,6 +134,18 @@ where
     let r = brent_root_in(what, bracket, scan.root, &mut f)?;
     let stop = RootStop::ConvergedBetweenGridPoints;
     Ok(found(r.x, scan, stop, count.get()))
+}
+
+/// The critical temperature at a fixed wavevector q of any equation: the largest root in T of
+/// [`PairEquation::excess`] on `scan` (units of the equation).
+pub fn tc_at_q<E: PairEquation + ?Sized>(
+    eq: &E,
+    q: [f64; 2],
+    what: &str,
+    scan: &TemperatureScan,
+) -> Result<TemperatureRoot, EquationError> {
+    let f = eq.excess_in_t(q)?;
+    largest_root(what, scan, |t| f(t))
 }
 
 fn found(t: f64, scan: &TemperatureScan, stop: RootStop, evaluations: usize) -> TemperatureRoot {

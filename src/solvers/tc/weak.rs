@@ -4,7 +4,8 @@
 //! and Lifshitz points. The root in T is the shared [`super::root::largest_root`]; every root and
 //! maximum goes through [`crate::solvers::roots`] and [`crate::solvers::optimize`].
 
-use super::root::{largest_root, TemperatureScan};
+use super::root::{largest_root, tc_at_q, TemperatureScan};
+use crate::kernels::equation::WeakEquation;
 use crate::kernels::weak::{
     check_below_tc0, check_finite, check_temperature, delta0_over_tc0, margin_q_curvature,
     margin_q_curvature_fd, pair_margin, quartic_weak, uniform_margin, WeakError, T_FLOOR,
@@ -66,9 +67,8 @@ pub fn uniform_tc(h: f64) -> Result<Option<f64>, WeakError> {
         return Ok(Some(1.0));
     }
     let scan = temperature_scan(401);
-    let r = largest_root("uniform Tc at fixed h", &scan, |t| {
-        Ok::<f64, WeakError>(uniform_margin(t, h))
-    })?;
+    let eq = WeakEquation { h, lambda: 1.0 };
+    let r = tc_at_q(&eq, [0.0, 0.0], "uniform Tc at fixed h", &scan)?;
     Ok(r.t)
 }
 
