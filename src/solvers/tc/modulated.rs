@@ -2,7 +2,7 @@
 //! by a downward temperature scan, a fine bracket in ln T and Brent, with a global check at the root.
 
 use super::qgrid::*;
-use super::tracker::Tracker;
+use super::tracker::{FinePoint, Tracker};
 use super::{nested_tc, no_instability, ModulatedTc, TcReport, TcSolver, TcStatus};
 use crate::error::NumericalError;
 use crate::kernels::susceptibility::susceptibility;
@@ -33,107 +33,141 @@ impl TcSolver {
     ) -> Result<ModulatedTc, NumericalError> {
         let count = Cell::new(0);
         let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
-        let none = |reason: String, n: usize| ModulatedTc {
-            tc: no_instability(reason, n),
-            q: [0.0, 0.0],
-            isotropic: iso,
-            q_error: 0.0,
-        };
-        let uniform_wins = || ModulatedTc {
-            tc: uniform.clone(),
-            q: [0.0, 0.0],
-            isotropic: iso,
-            q_error: 0.0,
-        };
+        let out = Outcomes { iso, uniform };
         let Some(t_ref) = nested_tc(ch) else {
-            return Ok(none(
-                "the pair density of states vanishes (the form factor is zero on the nesting line)"
-                    .into(),
-                0,
-            ));
+            let reason =
+                "the pair density of states vanishes (the form factor is zero on the nesting line)";
+            return Ok(out.none(reason.into(), 0));
         };
-        let coarse = self.acc.coarse();
         let unstable = uniform.status == TcStatus::Unstable;
-        // The lowest point of the scan: the uniform Tc, where max over q of g chi >= 1, or the
-        // floor. If q = 0 is the global maximum at the uniform Tc, the uniform state wins. That
-        // check is made first where the uniform Tc is high; where it is low (evaluations there
-        // are costly) it is made only if the scan from the top reaches it.
         let t_top = self.top_temperature(model, ch, &count)?;
-        let bottom = if unstable {
-            let tu = uniform.tc;
-            if tu >= LOW_UNIFORM_TC * t_ref {
-                let (q1, v1) = self.best_q(model, ch, tu, &coarse, &count)?;
-                if q1 == [0.0, 0.0] {
-                    return Ok(uniform_wins());
-                }
-                Bottom::Known(ScanPoint {
-                    t: tu,
-                    q: q1,
-                    value: v1.max(1.0),
-                    refined: true,
-                })
-            } else {
-                Bottom::Uniform(tu)
-            }
-        } else {
-            Bottom::Floor(self.modulated_floor * t_ref)
+        let Some(bottom) = self.scan_bottom(model, ch, uniform, t_ref, &count)? else {
+            return Ok(out.uniform_wins());
         };
         let floor = bottom.t();
         let what = format!("modulated Tc of channel {}", ch.label);
         let (lo, hi) = match self.scan_down(model, ch, iso, t_top, bottom, &what, &count)? {
             Scan::Bracket(lo, hi) => (lo, hi),
-            Scan::UniformWins => return Ok(uniform_wins()),
+            Scan::UniformWins => return Ok(out.uniform_wins()),
             Scan::Nothing => {
-                return Ok(none(
-                    format!(
-                        "max over q of g chi(q, T) < 1 for every T above the floor {floor:.3e} meV"
-                    ),
-                    count.get(),
-                ))
+                let reason = format!(
+                    "max over q of g chi(q, T) < 1 for every T above the floor {floor:.3e} meV"
+                );
+                return Ok(out.none(reason, count.get()));
             }
         };
         // Fine stage in x = ln T.
         let mut track = Tracker::new(self, model, ch, iso, &count, lo.q);
+        let limits = FineLimits {
+            floor,
+            t_top,
+            unstable,
+        };
+        let Some(root_t) = self.fine_root(&mut track, lo, hi, limits, &what)? else {
+            // max over q of g chi < 1 already at the uniform Tc at full accuracy: the gain of
+            // q != 0 is below the resolution, and the uniform state is the instability.
+            return Ok(out.uniform_wins());
+        };
+        let fin = track.at(root_t)?;
+        self.check_global(model, ch, iso, root_t, fin.q, &count)?;
+        if unstable && root_t <= uniform.tc + uniform.error {
+            return Ok(out.uniform_wins());
+        }
+        self.modulated_report(model, ch, iso, root_t, fin, &what, &count)
+    }
+
+    /// The bottom of the downward scan: the uniform Tc (checked at once where it is high: None
+    /// when q = 0 is the global maximum there, so that the uniform state wins), or the floor.
+    fn scan_bottom(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        uniform: &TcReport,
+        t_ref: f64,
+        count: &Cell<usize>,
+    ) -> Result<Option<Bottom>, NumericalError> {
+        // The lowest point of the scan: the uniform Tc, where max over q of g chi >= 1, or the
+        // floor. If q = 0 is the global maximum at the uniform Tc, the uniform state wins. That
+        // check is made first where the uniform Tc is high; where it is low (evaluations there
+        // are costly) it is made only if the scan from the top reaches it.
+        if uniform.status != TcStatus::Unstable {
+            return Ok(Some(Bottom::Floor(self.modulated_floor * t_ref)));
+        }
+        let tu = uniform.tc;
+        if tu < LOW_UNIFORM_TC * t_ref {
+            return Ok(Some(Bottom::Uniform(tu)));
+        }
+        let (q1, v1) = self.best_q(model, ch, tu, &self.acc.coarse(), count)?;
+        if q1 == [0.0, 0.0] {
+            return Ok(None);
+        }
+        Ok(Some(Bottom::Known(ScanPoint {
+            t: tu,
+            q: q1,
+            value: v1.max(1.0),
+            refined: true,
+        })))
+    }
+
+    /// The root in T at full accuracy between the coarse bracket (lo unstable, hi stable): secant
+    /// steps in ln T to a tight bracket, then Brent. None when the lower limit is reached still
+    /// stable with a uniform instability (the uniform state wins).
+    fn fine_root(
+        &self,
+        track: &mut Tracker,
+        lo: ScanPoint,
+        hi: ScanPoint,
+        lim: FineLimits,
+        what: &str,
+    ) -> Result<Option<f64>, NumericalError> {
         let (x_lo, x_hi) = (lo.t.ln(), hi.t.ln());
         let slope = {
             let s = (hi.value - lo.value) / (x_hi - x_lo);
             if s < 0.0 {
                 s
             } else {
-                -ch.lambda().max(1e-3)
+                -track.ch.lambda().max(1e-3)
             }
         };
         // Limits of the bracket search: the coarse rule may misplace the root slightly, but
         // never below the uniform Tc or the floor, nor above the top temperature.
-        let lim_lo = if unstable {
-            floor.ln()
+        let lim_lo = if lim.unstable {
+            lim.floor.ln()
         } else {
-            (x_lo - 0.1).max(floor.ln())
+            (x_lo - 0.1).max(lim.floor.ln())
         };
-        let lim_hi = (x_hi + 0.1).min(t_top.ln());
+        let lim_hi = (x_hi + 0.1).min(lim.t_top.ln());
         let guess = (x_lo - (lo.value - 1.0) / slope).clamp(x_lo, x_hi);
-        let bracket = self.fine_bracket(&mut track, guess, slope, lim_lo, lim_hi)?;
-        let Some((a, b)) = bracket else {
-            // max over q of g chi < 1 already at the uniform Tc at full accuracy: the gain of
-            // q != 0 is below the resolution, and the uniform state is the instability.
-            if unstable {
-                return Ok(uniform_wins());
+        let Some((a, b)) = self.fine_bracket(track, guess, slope, lim_lo, lim_hi)? else {
+            if lim.unstable {
+                return Ok(None);
             }
             return Err(NumericalError::NotBracketed {
-                what,
+                what: what.to_string(),
                 lo: lim_lo.exp(),
                 hi: lim_hi.exp(),
             });
         };
-        let root_t = if a == b {
-            a.exp()
-        } else {
-            brent_root(&what, a.exp(), b.exp(), self.t_rel, |t| track.eval(t))?.x
-        };
-        let fin = track.at(root_t)?;
-        let q = fin.q;
-        // Global check at the root: no other wavevector may be more unstable.
-        let grid = self.grid_scan(model, ch, root_t, &coarse, iso, &count)?;
+        if a == b {
+            return Ok(Some(a.exp()));
+        }
+        let r = brent_root(what, a.exp(), b.exp(), self.t_rel, |t| track.eval(t))?;
+        Ok(Some(r.x))
+    }
+
+    /// Global check at the root: no other wavevector may be more unstable than q (by 1e-4
+    /// relative at the coarse accuracy); a competing maximum is an error.
+    fn check_global(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        iso: bool,
+        root_t: f64,
+        q: [f64; 2],
+        count: &Cell<usize>,
+    ) -> Result<(), NumericalError> {
+        let coarse = self.acc.coarse();
+        let grid = self.grid_scan(model, ch, root_t, &coarse, iso, count)?;
         let vl = ch.g * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value;
         count.set(count.get() + 1);
         let qn = q[0].hypot(q[1]);
@@ -162,19 +196,35 @@ impl TcSolver {
                 ],
                 tol: Some(COMPETITOR_TOL),
             };
-            let m = self.local_max(model, ch, root_t, &coarse, iso, start, &count)?;
+            let m = self.local_max(model, ch, root_t, &coarse, iso, start, count)?;
             if m.value > limit && !near(m.q) {
                 return Err(self.competing(ch, m.q, q));
             }
         }
-        if unstable && root_t <= uniform.tc + uniform.error {
-            return Ok(uniform_wins());
-        }
-        let (error, slope) = self.root_error(model, ch, q, root_t, &count)?;
+        Ok(())
+    }
+
+    /// The report of a modulated root at `root_t` with the full-accuracy point `fin`: its error
+    /// (the checked susceptibility over the slope, plus the shortfall of the maximum over q),
+    /// rejected above 1e-5 relative; q* in the half plane q_x > 0 (along +x if isotropic).
+    #[allow(clippy::too_many_arguments)]
+    fn modulated_report(
+        &self,
+        model: &Model,
+        ch: &Channel,
+        iso: bool,
+        root_t: f64,
+        fin: FinePoint,
+        what: &str,
+        count: &Cell<usize>,
+    ) -> Result<ModulatedTc, NumericalError> {
+        let q = fin.q;
+        let qn = q[0].hypot(q[1]);
+        let (error, slope) = self.root_error(model, ch, q, root_t, count)?;
         let error = error + fin.shortfall / slope.max(1e-300);
         if error > 1e-5 * root_t {
             return Err(NumericalError::NotConverged {
-                what,
+                what: what.to_string(),
                 iterations: count.get(),
                 last_change: error,
                 target: 1e-5 * root_t,
@@ -345,6 +395,41 @@ impl TcSolver {
 /// downward scan reaches the uniform Tc (chi at low T is costly, and a modulated Tc well above
 /// the uniform one is found first).
 pub(super) const LOW_UNIFORM_TC: f64 = 0.25;
+
+/// The results of the modulated search that need no root: no instability, or the uniform state.
+struct Outcomes<'a> {
+    iso: bool,
+    uniform: &'a TcReport,
+}
+
+impl Outcomes<'_> {
+    fn none(&self, reason: String, evaluations: usize) -> ModulatedTc {
+        ModulatedTc {
+            tc: no_instability(reason, evaluations),
+            q: [0.0, 0.0],
+            isotropic: self.iso,
+            q_error: 0.0,
+        }
+    }
+
+    fn uniform_wins(&self) -> ModulatedTc {
+        ModulatedTc {
+            tc: self.uniform.clone(),
+            q: [0.0, 0.0],
+            isotropic: self.iso,
+            q_error: 0.0,
+        }
+    }
+}
+
+/// Limits of the fine temperature search: the bottom of the scan, the top temperature, and
+/// whether there is a uniform instability (the bottom is then the uniform Tc).
+#[derive(Debug, Clone, Copy)]
+struct FineLimits {
+    floor: f64,
+    t_top: f64,
+    unstable: bool,
+}
 
 /// The bottom of the downward temperature scan.
 #[derive(Debug, Clone, Copy)]

@@ -43,39 +43,14 @@ where
             "{what}: bad starting step {step:e} at {x0:e}"
         )));
     }
-    let mut get = |x: f64, k: Option<f64>| -> Result<(f64, f64), NumericalError> {
-        Ok((
-            x,
-            match k {
-                Some(v) => v,
-                None => f(x)?,
-            },
-        ))
+    let mut get = |x: f64, k: Option<f64>| -> Result<Point, NumericalError> {
+        Ok((x, k.map_or_else(|| f(x), Ok)?))
     };
     let mut b = get(x0, known[1])?;
     let start = b.1;
     let mut a = get(x0 - step, known[0])?;
     let mut c = get(x0 + step, known[2])?;
-    let mut outward = 0;
-    while a.1 > b.1 || c.1 > b.1 {
-        outward += 1;
-        if outward > 60 {
-            return Err(NumericalError::NotBracketed {
-                what: what.to_string(),
-                lo: a.0,
-                hi: c.0,
-            });
-        }
-        if a.1 > c.1 {
-            c = b;
-            b = a;
-            a = get(b.0 - GROW * (c.0 - b.0), None)?;
-        } else {
-            a = b;
-            b = c;
-            c = get(b.0 + GROW * (b.0 - a.0), None)?;
-        }
-    }
+    step_out(what, &mut a, &mut b, &mut c, &mut get)?;
     let mut stepped = false;
     for _ in 0..100 {
         let (p, r) = (b.0 - a.0, c.0 - b.0);
@@ -103,14 +78,7 @@ where
                 curvature: k,
             });
         }
-        let u = if shift.abs() >= 0.02 * p.min(r) {
-            b.0 + shift
-        } else if r > p {
-            b.0 + GOLDEN_SECTION * r
-        } else {
-            b.0 - GOLDEN_SECTION * p
-        };
-        let u = u.clamp(a.0 + 1e-3 * p, c.0 - 1e-3 * r);
+        let u = trial_point(a.0, b.0, c.0, shift);
         let fu = get(u, None)?;
         stepped = true;
         if fu.1 >= b.1 {
@@ -132,6 +100,58 @@ where
         last_change: c.0 - a.0,
         target: x_res,
     })
+}
+
+/// The next trial abscissa of the parabolic search in the triple a < b < c: the parabola's
+/// vertex b + shift, or a golden-section step into the larger side where the vertex falls on b;
+/// kept off the ends.
+fn trial_point(a: f64, b: f64, c: f64, shift: f64) -> f64 {
+    let (p, r) = (b - a, c - b);
+    let u = if shift.abs() >= 0.02 * p.min(r) {
+        b + shift
+    } else if r > p {
+        b + GOLDEN_SECTION * r
+    } else {
+        b - GOLDEN_SECTION * p
+    };
+    u.clamp(a + 1e-3 * p, c - 1e-3 * r)
+}
+
+/// A point (x, f(x)) of the parabolic search.
+type Point = (f64, f64);
+
+/// Steps the triple a < b < c outward (by the golden ratio) until f(b) >= f(a), f(c).
+fn step_out<G>(
+    what: &str,
+    a: &mut Point,
+    b: &mut Point,
+    c: &mut Point,
+    get: &mut G,
+) -> Result<(), NumericalError>
+where
+    G: FnMut(f64, Option<f64>) -> Result<Point, NumericalError>,
+{
+    let mut outward = 0;
+    while a.1 > b.1 || c.1 > b.1 {
+        outward += 1;
+        if outward > 60 {
+            return Err(NumericalError::NotBracketed {
+                what: what.to_string(),
+                lo: a.0,
+                hi: c.0,
+            });
+        }
+        if a.1 > c.1 {
+            *c = *b;
+            *b = *a;
+            *a = get(b.0 - GROW * (c.0 - b.0), None)?;
+        } else {
+            *a = *b;
+            *b = *c;
+            *c = get(b.0 + GROW * (b.0 - a.0), None)?;
+        }
+    }
+    Ok(())
 }
 
 #[cfg(test)]

@@ -213,24 +213,7 @@ impl TcSolver {
             let (dq, dp) = (qm - q0, phi - p0);
             if round > 0 {
                 // A ridge across the axes: search along this round's displacement too.
-                let line = parabolic_max(
-                    "q* along the ridge",
-                    0.0,
-                    1.0,
-                    [None, Some(value), None],
-                    tol_rel,
-                    1e-9,
-                    |x| eval(polar(qm + x * dq, phi + x * dp)),
-                )?;
-                if line.value > value {
-                    qm += line.x * dq;
-                    phi += line.x * dp;
-                    if qm < 0.0 {
-                        qm = -qm;
-                        phi += std::f64::consts::PI;
-                    }
-                    value = line.value;
-                }
+                (qm, phi, value) = along_ridge(&eval, (qm, phi), (dq, dp), value, tol_rel)?;
             }
             sr = dq.abs().max(MIN_STEP * qm);
             sp = dp.abs().max(MIN_STEP);
@@ -315,4 +298,33 @@ impl TcSolver {
             refined: true,
         })
     }
+}
+
+/// One parabolic search from (|q|, phi) along the displacement (dq, dphi) of the last round,
+/// taken where it gains; returns the new (|q|, phi, value).
+fn along_ridge(
+    eval: &impl Fn([f64; 2]) -> Result<f64, NumericalError>,
+    (qm, phi): (f64, f64),
+    (dq, dp): (f64, f64),
+    value: f64,
+    tol_rel: f64,
+) -> Result<(f64, f64, f64), NumericalError> {
+    let line = parabolic_max(
+        "q* along the ridge",
+        0.0,
+        1.0,
+        [None, Some(value), None],
+        tol_rel,
+        1e-9,
+        |x| eval(polar(qm + x * dq, phi + x * dp)),
+    )?;
+    if line.value <= value {
+        return Ok((qm, phi, value));
+    }
+    let (mut qm, mut phi) = (qm + line.x * dq, phi + line.x * dp);
+    if qm < 0.0 {
+        qm = -qm;
+        phi += std::f64::consts::PI;
+    }
+    Ok((qm, phi, line.value))
 }
