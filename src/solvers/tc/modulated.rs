@@ -185,17 +185,7 @@ impl TcSolver {
             if near(grid.q_at(j, i)) || grid.upper_at(j, i) <= limit {
                 continue;
             }
-            let start = Start {
-                q: grid.q_at(j, i),
-                step_r: grid.dq,
-                step_phi: grid.dir_step(),
-                known: [
-                    Some(grid.values[j][i - 1]),
-                    Some(grid.values[j][i]),
-                    grid.values[j].get(i + 1).copied(),
-                ],
-                tol: Some(COMPETITOR_TOL),
-            };
+            let start = grid.start_at(j, i, Some(COMPETITOR_TOL));
             let m = self.local_max(model, ch, root_t, &coarse, iso, start, count)?;
             if m.value > limit && !near(m.q) {
                 return Err(self.competing(ch, m.q, q));

@@ -129,6 +129,22 @@ impl QGrid {
         polar(self.dq * i as f64, self.dirs[j])
     }
 
+    /// A local search from grid point (j, i >= 1) with the grid spacing as its steps and the
+    /// neighbouring values in |q| as known values; relative value tolerance `tol`.
+    pub(super) fn start_at(&self, j: usize, i: usize, tol: Option<f64>) -> Start {
+        Start {
+            q: self.q_at(j, i),
+            step_r: self.dq,
+            step_phi: self.dir_step(),
+            known: [
+                Some(self.values[j][i - 1]),
+                Some(self.values[j][i]),
+                self.values[j].get(i + 1).copied(),
+            ],
+            tol,
+        }
+    }
+
     pub(super) fn dir_step(&self) -> f64 {
         std::f64::consts::PI / self.dirs.len() as f64
     }

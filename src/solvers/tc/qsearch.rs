@@ -10,6 +10,21 @@ use crate::model::{Channel, Model};
 use std::cell::Cell;
 
 impl TcSolver {
+    /// g chi(q, T) at fixed T as a function of q, counting evaluations in `count`.
+    fn counted_g_chi<'a>(
+        &'a self,
+        model: &'a Model,
+        ch: &'a Channel,
+        t: f64,
+        acc: &'a Accuracy,
+        count: &'a Cell<usize>,
+    ) -> impl Fn([f64; 2]) -> Result<f64, NumericalError> + 'a {
+        move |q| {
+            count.set(count.get() + 1);
+            self.g_chi(model, ch, q, t, acc)
+        }
+    }
+
     /// The coarse global scan over q at one temperature: |q| on a grid of `q_points` up to
     /// 4 (|h| + 2T)/v (doubled, up to three times, while the best point sits at the edge) along
     /// `directions` directions over 180 degrees (one for an isotropic channel), and, where q = 0
@@ -24,10 +39,7 @@ impl TcSolver {
         iso: bool,
         count: &Cell<usize>,
     ) -> Result<QGrid, NumericalError> {
-        let eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
-            count.set(count.get() + 1);
-            self.g_chi(model, ch, q, t, acc)
-        };
+        let eval = self.counted_g_chi(model, ch, t, acc, count);
         let dirs: Vec<f64> = if iso {
             vec![0.0]
         } else {
@@ -126,17 +138,7 @@ impl TcSolver {
                 tol,
             }
         } else {
-            Start {
-                q: grid.q_at(j, i),
-                step_r: grid.dq,
-                step_phi: grid.dir_step(),
-                known: [
-                    Some(grid.values[j][i - 1]),
-                    Some(grid.values[j][i]),
-                    grid.values[j].get(i + 1).copied(),
-                ],
-                tol,
-            }
+            grid.start_at(j, i, tol)
         };
         let m = self.local_max(model, ch, t, acc, iso, start, count)?;
         if m.value <= grid.zero {
@@ -160,10 +162,7 @@ impl TcSolver {
         start: Start,
         count: &Cell<usize>,
     ) -> Result<QMax, NumericalError> {
-        let eval = |q: [f64; 2]| -> Result<f64, NumericalError> {
-            count.set(count.get() + 1);
-            self.g_chi(model, ch, q, t, acc)
-        };
+        let eval = self.counted_g_chi(model, ch, t, acc, count);
         let tol_rel = start.tol.unwrap_or(VALUE_TOL * acc.rtol);
         let mut qm = start.q[0].hypot(start.q[1]);
         let mut phi = if iso || qm == 0.0 {

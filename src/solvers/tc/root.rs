@@ -145,7 +145,7 @@ pub fn tc_at_q<E: PairEquation + ?Sized>(
     scan: &TemperatureScan,
 ) -> Result<TemperatureRoot, EquationError> {
     let f = eq.excess_in_t(q)?;
-    largest_root(what, scan, |t| f(t))
+    largest_root(what, scan, f)
 }
 
 fn found(t: f64, scan: &TemperatureScan, stop: RootStop, evaluations: usize) -> TemperatureRoot {
