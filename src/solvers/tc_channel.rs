@@ -7,7 +7,7 @@ use crate::kernels::weak;
 use crate::kernels::Shell;
 use crate::model::{Channel, Model};
 use crate::solvers::tc::weak as weak_tc;
-use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus};
+use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus, TcStop};
 
 /// How the critical temperature is computed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -83,6 +83,7 @@ fn weak_report(t: Option<f64>, t0: f64) -> TcReport {
             status: TcStatus::Unstable,
             reason: None,
             evaluations: 0,
+            stop: TcStop::Converged,
         },
         None => TcReport {
             tc: 0.0,
@@ -93,6 +94,7 @@ fn weak_report(t: Option<f64>, t0: f64) -> TcReport {
                 weak::T_FLOOR
             )),
             evaluations: 0,
+            stop: TcStop::BelowFloor,
         },
     }
 }
@@ -131,6 +133,7 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             status: TcStatus::NoInstability,
             reason: Some("the pair density of states vanishes".into()),
             evaluations: 0,
+            stop: TcStop::NoPairDensity,
         };
         return Ok(ChannelTc {
             label: ch.label.clone(),

@@ -79,6 +79,20 @@ pub struct TcReport {
     pub reason: Option<String>,
     /// Susceptibility evaluations used.
     pub evaluations: usize,
+    /// Why the search stopped.
+    pub stop: TcStop,
+}
+
+/// Why a critical-temperature search stopped.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum TcStop {
+    /// A root of g chi = 1 was bracketed and refined to the tolerance.
+    Converged,
+    /// g chi < 1 at every temperature down to the floor: no instability above it.
+    BelowFloor,
+    /// The pair density of states vanishes (lambda = 0): no instability at any temperature.
+    NoPairDensity,
 }
 
 /// The modulated instability: Tc at the best wavevector.
@@ -165,6 +179,7 @@ impl TcSolver {
                 "the pair density of states vanishes (the form factor is zero on the nesting line)"
                     .into(),
                 0,
+                TcStop::NoPairDensity,
             ));
         };
         let t_top = self.top_temperature(model, ch, &count)?;
@@ -197,6 +212,7 @@ impl TcSolver {
                     status: TcStatus::Unstable,
                     reason: None,
                     evaluations: count.get(),
+                    stop: TcStop::Converged,
                 })
             }
             None => Ok(no_instability(
@@ -205,6 +221,7 @@ impl TcSolver {
                     floor
                 ),
                 count.get(),
+                TcStop::BelowFloor,
             )),
         }
     }
@@ -281,8 +298,10 @@ impl TcSolver {
     }
 }
 
-fn no_instability(reason: String, evaluations: usize) -> TcReport {
+/// The report of a search that found no instability, with its reason.
+fn no_instability(reason: String, evaluations: usize, stop: TcStop) -> TcReport {
     TcReport {
+        stop,
         tc: 0.0,
         error: 0.0,
         status: TcStatus::NoInstability,

@@ -3,7 +3,7 @@
 
 use super::qgrid::*;
 use super::tracker::{FinePoint, Tracker};
-use super::{nested_tc, no_instability, ModulatedTc, TcReport, TcSolver, TcStatus};
+use super::{nested_tc, no_instability, ModulatedTc, TcReport, TcSolver, TcStatus, TcStop};
 use crate::error::NumericalError;
 use crate::kernels::susceptibility::susceptibility;
 use crate::kernels::Shell;
@@ -37,7 +37,7 @@ impl TcSolver {
         let Some(t_ref) = nested_tc(ch) else {
             let reason =
                 "the pair density of states vanishes (the form factor is zero on the nesting line)";
-            return Ok(out.none(reason.into(), 0));
+            return Ok(out.none(reason.into(), 0, TcStop::NoPairDensity));
         };
         let unstable = uniform.status == TcStatus::Unstable;
         let t_top = self.top_temperature(model, ch, &count)?;
@@ -53,7 +53,7 @@ impl TcSolver {
                 let reason = format!(
                     "max over q of g chi(q, T) < 1 for every T above the floor {floor:.3e} meV"
                 );
-                return Ok(out.none(reason, count.get()));
+                return Ok(out.none(reason, count.get(), TcStop::BelowFloor));
             }
         };
         // Fine stage in x = ln T.
@@ -234,6 +234,7 @@ impl TcSolver {
                 status: TcStatus::Unstable,
                 reason: None,
                 evaluations: count.get(),
+                stop: TcStop::Converged,
             },
             q,
             isotropic: iso,
@@ -393,9 +394,9 @@ struct Outcomes<'a> {
 }
 
 impl Outcomes<'_> {
-    fn none(&self, reason: String, evaluations: usize) -> ModulatedTc {
+    fn none(&self, reason: String, evaluations: usize, stop: TcStop) -> ModulatedTc {
         ModulatedTc {
-            tc: no_instability(reason, evaluations),
+            tc: no_instability(reason, evaluations, stop),
             q: [0.0, 0.0],
             isotropic: self.iso,
             q_error: 0.0,
