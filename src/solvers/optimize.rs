@@ -56,8 +56,8 @@ where
 /// Iteration limit of the maximiser (it needs 10 to 40 iterations).
 const MAX_ITER: usize = 200;
 
-/// The golden section (3 - sqrt 5)/2.
-const GOLD: f64 = 0.381_966_011_250_105_1;
+/// The golden section (3 - sqrt 5)/2, the step fraction of golden-section searches.
+pub const GOLDEN_SECTION: f64 = 0.381_966_011_250_105_1;
 
 /// Maximum of f on [a, b] to `x_tol`, started from `start` = (x0, f(x0)) inside the interval when
 /// given (otherwise from the golden-section point), for any error type of f that can hold a
@@ -79,7 +79,7 @@ where
     let (mut x, mut fx) = match start {
         Some((x0, f0)) => (x0, -f0),
         None => {
-            let x = a + GOLD * (b - a);
+            let x = a + GOLDEN_SECTION * (b - a);
             (x, -f(x)?)
         }
     };
@@ -168,7 +168,7 @@ fn next_step(p: Points, (fx, fw, fv): (f64, f64, f64), (d, e): (f64, f64), tol: 
         }
     }
     let e_new = if x < m { b - x } else { a - x };
-    (GOLD * e_new, e_new)
+    (GOLDEN_SECTION * e_new, e_new)
 }
 
 #[cfg(test)]

@@ -18,6 +18,7 @@ use root::{tc_at_q, TemperatureScan};
 mod modulated;
 mod parabolic;
 mod qgrid;
+pub mod qline;
 mod qsearch;
 pub mod root;
 mod tracker;

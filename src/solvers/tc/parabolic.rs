@@ -2,10 +2,10 @@
 //! used by the wavevector searches of the critical-temperature solver.
 
 use crate::error::NumericalError;
+use crate::solvers::optimize::GOLDEN_SECTION;
 
-/// Growth of the bracketing steps (the golden ratio) and the golden section.
+/// Growth of the bracketing steps (the golden ratio).
 pub(super) const GROW: f64 = 1.618_033_988_749_895;
-pub(super) const GOLDEN_SECTION: f64 = 0.381_966_011_250_105_1;
 
 /// A located one-dimensional maximum.
 #[derive(Debug, Clone, Copy)]

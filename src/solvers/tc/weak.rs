@@ -4,13 +4,14 @@
 //! and Lifshitz points. The root in T is the shared [`super::root::largest_root`]; every root and
 //! maximum goes through [`crate::solvers::roots`] and [`crate::solvers::optimize`].
 
+use super::qline::{max_over_q_line, QLineStop};
 use super::root::{largest_root, tc_at_q, TemperatureScan};
 use crate::kernels::equation::WeakEquation;
 use crate::kernels::weak::{
-    check_below_tc0, check_finite, check_temperature, delta0_over_tc0, margin_q_curvature,
-    margin_q_curvature_fd, pair_margin, quartic_weak, uniform_margin, WeakError, T_FLOOR,
+    check_below_tc0, check_finite, check_temperature, delta0_over_tc0, margin_q_curvature_fd,
+    quartic_weak, uniform_margin, WeakError, T_FLOOR,
 };
-use crate::solvers::optimize::{brent_max_from, XTol};
+use crate::solvers::optimize::XTol;
 use crate::solvers::roots::{brent_root_in, Bracket, RootTol};
 
 /// Absolute tolerance on roots in t and h (in Tc0 units).
@@ -134,46 +135,16 @@ pub fn modulated_point(t: f64, h: f64) -> Result<(f64, f64), WeakError> {
     check_finite("h", h)?;
     let h = h.abs();
     let grid = wavevector_grid(t, h);
-    let mut values = Vec::with_capacity(grid.len());
-    for &q in &grid {
-        values.push(pair_margin(t, h, q)?);
-    }
-    let (k, m_best) = values
-        .iter()
-        .enumerate()
-        .fold((0, f64::NEG_INFINITY), |best, (k, &m)| {
-            if m > best.1 {
-                (k, m)
-            } else {
-                best
-            }
-        });
-    let margin = |q: f64| pair_margin(t, h, q);
     let tol = XTol::AbsRel {
         abs: 1e-10 * (h + t),
         rel: Q_XTOL_REL,
     };
-    let what = "maximum of the pair margin over Q";
-    if k + 1 == grid.len() {
-        return Err(WeakError::MaximumAtScanEdge { t, h, q: grid[k] });
+    let eq = WeakEquation { h, lambda: 1.0 };
+    let m = max_over_q_line(&eq, t, [1.0, 0.0], &grid, tol)?;
+    if m.stop == QLineStop::AtScanEdge {
+        return Err(WeakError::MaximumAtScanEdge { t, h, q: m.q });
     }
-    if k == 0 {
-        // Q = 0 is always stationary (m is even in Q); it is the maximum unless m curves upwards.
-        if margin_q_curvature(t, h) <= 0.0 {
-            return Ok((m_best, 0.0));
-        }
-        let mid = 0.5 * grid[1];
-        let m_mid = margin(mid)?;
-        let m = brent_max_from(what, 0.0, grid[1], Some((mid, m_mid)), tol, margin)?;
-        return Ok(if m.value > m_best {
-            (m.value, m.x)
-        } else {
-            (m_best, 0.0)
-        });
-    }
-    let start = Some((grid[k], m_best));
-    let m = brent_max_from(what, grid[k - 1], grid[k + 1], start, tol, margin)?;
-    Ok((m.value, m.x))
+    Ok((m.value, m.q))
 }
 
 /// The modulated instability line at 0 < t < 1: the largest h (Tc0 units) with

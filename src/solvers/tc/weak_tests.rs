@@ -5,7 +5,7 @@
 #![allow(clippy::excessive_precision, clippy::approx_constant)]
 
 use super::*;
-use crate::kernels::weak::uniform_margin;
+use crate::kernels::weak::{pair_margin, uniform_margin};
 
 /// Check values quoted to 4 decimals (physics.md section 8, mpmath at 30 digits, and the cited
 /// papers): rounding allows 5e-5; 2e-4 absolute leaves room for the flat maximum in Q.
