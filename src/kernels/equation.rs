@@ -288,3 +288,31 @@ impl PairEquation for WeakEquation {
         true
     }
 }
+
+/// A family of equations of one channel parameterised by its mismatch h (units of the family):
+/// what the searches for instability lines in the (h, T) plane vary.
+pub trait MismatchFamily {
+    /// The equation at one mismatch.
+    type Eq: PairEquation;
+
+    /// The channel's equation at mismatch h.
+    fn at_mismatch(&self, h: f64) -> Self::Eq;
+}
+
+/// The weak-coupling equations at every mismatch (h in units of Tc0) and one coupling lambda.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WeakFamily {
+    /// The dimensionless coupling lambda = g nu.
+    pub lambda: f64,
+}
+
+impl MismatchFamily for WeakFamily {
+    type Eq = WeakEquation;
+
+    fn at_mismatch(&self, h: f64) -> WeakEquation {
+        WeakEquation {
+            h,
+            lambda: self.lambda,
+        }
+    }
+}

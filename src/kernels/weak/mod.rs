@@ -26,7 +26,7 @@ mod margin;
 pub use margin::{margin_q_curvature, margin_q_curvature_fd, pair_margin, quartic_weak};
 
 use crate::error::NumericalError;
-use crate::special::{digamma, digamma_real, EULER_GAMMA};
+use crate::special::{digamma, EULER_GAMMA};
 use num_complex::Complex64;
 use std::f64::consts::PI;
 
@@ -150,13 +150,6 @@ pub(crate) fn check_below_tc0(t: f64) -> Result<(), WeakError> {
 /// F(x) = Re psi(1/2 + i x / (2 pi t)) for x = h + Q cos(theta), with s = 1/(2 pi t).
 fn re_psi_half(x: f64, s: f64) -> f64 {
     digamma(Complex64::new(0.5, x * s)).re
-}
-
-/// Pair margin of the uniform state m(t, h, 0): no angular average is needed. `t` > 0 is not
-/// checked (callers do).
-pub(crate) fn uniform_margin(t: f64, h: f64) -> f64 {
-    let s = 1.0 / (2.0 * PI * t);
-    -t.ln() - (re_psi_half(h, s) - digamma_real(0.5))
 }
 
 #[cfg(test)]

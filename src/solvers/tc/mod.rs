@@ -15,6 +15,7 @@ use crate::solvers::optimize::XTol;
 use crate::solvers::roots::RootTol;
 use root::{tc_at_q, TemperatureScan};
 
+pub mod lines;
 mod modulated;
 mod parabolic;
 mod qgrid;

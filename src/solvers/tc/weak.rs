@@ -4,15 +4,19 @@
 //! and Lifshitz points. The root in T is the shared [`super::root::largest_root`]; every root and
 //! maximum goes through [`crate::solvers::roots`] and [`crate::solvers::optimize`].
 
-use super::qline::{max_over_q_line, QLineStop};
+use super::lines::{self, LinePoint, LineStop};
+use super::qline::{max_over_q_line, QLineMax, QLineStop};
 use super::root::{largest_root, tc_at_q, TemperatureScan};
-use crate::kernels::equation::WeakEquation;
+use crate::kernels::equation::{WeakEquation, WeakFamily};
 use crate::kernels::weak::{
     check_below_tc0, check_finite, check_temperature, delta0_over_tc0, margin_q_curvature_fd,
-    quartic_weak, uniform_margin, WeakError, T_FLOOR,
+    quartic_weak, WeakError, T_FLOOR,
 };
 use crate::solvers::optimize::XTol;
-use crate::solvers::roots::{brent_root_in, Bracket, RootTol};
+use crate::solvers::roots::RootTol;
+
+/// The weak-coupling family in margin units (lambda = 1: the excess is the pair margin).
+const WEAK: WeakFamily = WeakFamily { lambda: 1.0 };
 
 /// Absolute tolerance on roots in t and h (in Tc0 units).
 const ROOT_TOL: RootTol = RootTol {
@@ -78,27 +82,8 @@ pub fn uniform_tc(h: f64) -> Result<Option<f64>, WeakError> {
 /// |y|), so the root in h >= 0 is unique; -h is its mirror image.
 pub fn uniform_line_h(t: f64) -> Result<f64, WeakError> {
     check_below_tc0(t)?;
-    let m0 = uniform_margin(t, 0.0);
-    let mut h_hi = 1.0;
-    let mut m_hi = uniform_margin(t, h_hi);
-    while m_hi >= 0.0 {
-        h_hi *= 2.0;
-        if h_hi > 1e6 {
-            return Err(WeakError::NotBracketed {
-                what: "uniform line h at fixed t",
-                lo: 0.0,
-                hi: h_hi,
-                f_lo: m0,
-                f_hi: m_hi,
-            });
-        }
-        m_hi = uniform_margin(t, h_hi);
-    }
-    let bracket = Bracket::known(0.0, m0, h_hi, m_hi);
-    let root = brent_root_in("uniform line h at fixed t", bracket, ROOT_TOL, |h| {
-        Ok::<f64, WeakError>(uniform_margin(t, h))
-    })?;
-    Ok(root.x)
+    let p = lines::uniform_line(&WEAK, t, 1.0, 1e6, ROOT_TOL)?;
+    found_or(p, "uniform line h at fixed t")
 }
 
 /// Wavevector scan for the maximum of m over Q at (t, h >= 0): from 0 to 3 (h + t), dense (steps t/2)
@@ -154,49 +139,19 @@ pub fn modulated_point(t: f64, h: f64) -> Result<(f64, f64), WeakError> {
 /// negative, then steps down in h to the first sign change and refines it with Brent's method.
 pub fn modulated_line(t: f64) -> Result<(f64, f64), WeakError> {
     check_below_tc0(t)?;
-    let what = "modulated line h at fixed t";
-    let max_margin = |h: f64| modulated_point(t, h).map(|(m, _)| m);
-    let mut h_hi = delta0_over_tc0() + 0.25;
-    let mut m_hi = max_margin(h_hi)?;
-    let mut expansions = 0;
-    while m_hi >= 0.0 {
-        expansions += 1;
-        if expansions > 20 {
-            return Err(WeakError::NotBracketed {
-                what,
-                lo: 0.0,
-                hi: h_hi,
-                f_lo: -t.ln(),
-                f_hi: m_hi,
-            });
-        }
-        h_hi *= 1.5;
-        m_hi = max_margin(h_hi)?;
-    }
-    let step = 0.05 * h_hi;
-    let (mut h_above, mut m_above) = (h_hi, m_hi);
-    loop {
-        let h = (h_above - step).max(0.0);
-        let m = max_margin(h)?;
-        if m >= 0.0 {
-            let bracket = Bracket::known(h, m, h_above, m_above);
-            let root = brent_root_in(what, bracket, ROOT_TOL, max_margin)?.x;
-            let (_, q_star) = modulated_point(t, root)?;
-            return Ok((root, q_star));
-        }
-        if h == 0.0 {
-            // Cannot happen for t < 1 (m(t, 0, 0) = ln(1/t) > 0); reported rather than assumed.
-            return Err(WeakError::NotBracketed {
-                what,
-                lo: 0.0,
-                hi: h_hi,
-                f_lo: m,
-                f_hi: m_hi,
-            });
-        }
-        h_above = h;
-        m_above = m;
-    }
+    let h_start = delta0_over_tc0() + 0.25;
+    let p = lines::modulated_line(&WEAK, h_start, ROOT_TOL, |eq| {
+        Ok(modulated_point(t, eq.h).map(|(m, q)| QLineMax {
+            value: m,
+            q,
+            q_error: 0.0,
+            evaluations: 0,
+            stop: QLineStop::Converged,
+        })?)
+    })?;
+    let root = found_or(p, "modulated line h at fixed t")?;
+    let (_, q_star) = modulated_point(t, root)?;
+    Ok((root, q_star))
 }
 
 /// The modulated critical temperature at mismatch h (Tc0 units): the largest t = T/Tc0 with
@@ -227,28 +182,25 @@ fn uniform_line_sign_change<F>(
 where
     F: FnMut(f64, f64) -> Result<f64, WeakError>,
 {
-    let mut g = |t: f64| -> Result<f64, WeakError> { indicator(t, uniform_line_h(t)?) };
-    let (t_top, t_bottom, n) = (0.99, 0.05, 48);
-    let mut t_prev = t_top;
-    let mut g_prev = g(t_prev)?;
-    for k in 1..=n {
-        let t = t_top + (t_bottom - t_top) * k as f64 / n as f64;
-        let gt = g(t)?;
-        if (gt > 0.0) != (g_prev > 0.0) {
-            let bracket = Bracket::known(t, gt, t_prev, g_prev);
-            let root = brent_root_in(what, bracket, ROOT_TOL, &mut g)?.x;
-            return Ok((root, uniform_line_h(root)?));
-        }
-        t_prev = t;
-        g_prev = gt;
+    let g = |t: f64| -> Result<f64, WeakError> { indicator(t, uniform_line_h(t)?) };
+    let p = lines::first_sign_change(what, (0.99, 0.05, 48), ROOT_TOL, g)?;
+    let root = found_or(p, what)?;
+    Ok((root, uniform_line_h(root)?))
+}
+
+/// The root of a line search, or the weak-coupling error naming the interval searched.
+fn found_or(p: LinePoint, what: &'static str) -> Result<f64, WeakError> {
+    match (p.x, p.stop) {
+        (Some(x), _) => Ok(x),
+        (None, LineStop::NoSignChange { lo, hi, f_lo, f_hi }) => Err(WeakError::NotBracketed {
+            what,
+            lo,
+            hi,
+            f_lo,
+            f_hi,
+        }),
+        (None, LineStop::Converged) => unreachable!("a converged line search has a root"),
     }
-    Err(WeakError::NotBracketed {
-        what,
-        lo: t_bottom,
-        hi: t_top,
-        f_lo: g_prev,
-        f_hi: g(t_top)?,
-    })
 }
 
 /// Tricritical point (t, h) in Tc0 units: where the quartic coefficient [`quartic_weak`] changes

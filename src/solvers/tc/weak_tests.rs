@@ -5,7 +5,7 @@
 #![allow(clippy::excessive_precision, clippy::approx_constant)]
 
 use super::*;
-use crate::kernels::weak::{pair_margin, uniform_margin};
+use crate::kernels::weak::pair_margin;
 
 /// Check values quoted to 4 decimals (physics.md section 8, mpmath at 30 digits, and the cited
 /// papers): rounding allows 5e-5; 2e-4 absolute leaves room for the flat maximum in Q.
@@ -52,7 +52,7 @@ fn uniform_tc_takes_the_upper_branch() {
     let h = h_nose - 1e-3;
     let tc = uniform_tc(h).unwrap().unwrap();
     assert!(tc > t_nose, "tc = {tc}, nose at t = {t_nose}");
-    assert!(uniform_margin(tc, h).abs() < MARGIN_TOL);
+    assert!(pair_margin(tc, h, 0.0).unwrap().abs() < MARGIN_TOL);
     // Just above the nose (past the refinement of the grid): none.
     assert_eq!(uniform_tc(h_nose + 1e-3).unwrap(), None);
     // Below Delta0/2 the lower branch has gone below t = 0: a single root.
