@@ -23,13 +23,17 @@ pub enum Method {
 /// Uniform and modulated instability of one channel.
 #[derive(Debug, Clone)]
 pub struct ChannelTc {
+    /// The channel's label.
     pub label: String,
+    /// How the critical temperatures were computed.
     pub method: Method,
     /// The channel's mismatch h at this point, meV.
     pub mismatch: f64,
     /// Nested Tc 1.134 Lambda exp(-1/lambda), meV (the weak-coupling scale Tc0).
     pub tc_nested: Option<f64>,
+    /// The uniform (q = 0) instability.
     pub uniform: TcReport,
+    /// The most unstable wavevector and its Tc (the uniform one where q = 0 wins).
     pub modulated: ModulatedTc,
     /// Notes on approximations made (weak method outside its assumptions).
     pub notes: Vec<String>,

@@ -36,8 +36,11 @@ pub enum WeakError {
     /// An argument outside the range where the closed forms are defined.
     #[error("{name} = {value} is not allowed: {allowed}")]
     InvalidArgument {
+        /// Which argument.
         name: &'static str,
+        /// Its value.
         value: f64,
+        /// What is allowed.
         allowed: &'static str,
     },
     /// The angular average did not reach its error target.
@@ -46,20 +49,31 @@ pub enum WeakError {
          above target {target:.3e} after {evaluations} evaluations"
     )]
     AngularAverageNotConverged {
+        /// Temperature T/Tc0.
         t: f64,
+        /// Mismatch h/Tc0.
         h: f64,
+        /// Wavevector Q/Tc0.
         q: f64,
+        /// The error estimate reached.
         estimate: f64,
+        /// The target.
         target: f64,
+        /// Integrand evaluations used.
         evaluations: usize,
     },
     /// No sign change of the function was found where the root was searched for.
     #[error("{what}: no sign change bracketed in [{lo}, {hi}] (values {f_lo:.3e}, {f_hi:.3e})")]
     NotBracketed {
+        /// What was searched for.
         what: &'static str,
+        /// Lower end of the bracket.
         lo: f64,
+        /// Upper end of the bracket.
         hi: f64,
+        /// The function at `lo`.
         f_lo: f64,
+        /// The function at `hi`.
         f_hi: f64,
     },
     /// A root or maximum search hit its iteration limit.
@@ -68,10 +82,15 @@ pub enum WeakError {
          {target:.3e})"
     )]
     NotConverged {
+        /// What was searched for.
         what: &'static str,
+        /// Iterations used.
         iterations: usize,
+        /// Lower end of the bracket.
         lo: f64,
+        /// Upper end of the bracket.
         hi: f64,
+        /// The target.
         target: f64,
     },
     /// A root or maximum search of the shared routines failed (not converged, not bracketed).
@@ -80,7 +99,14 @@ pub enum WeakError {
     /// The largest margin over the wavevector scan sat at its upper edge, so the scan range was
     /// too small to contain the maximum.
     #[error("maximum of the pair margin over Q at t = {t}, h = {h} lies at the scan edge Q = {q}")]
-    MaximumAtScanEdge { t: f64, h: f64, q: f64 },
+    MaximumAtScanEdge {
+        /// Temperature T/Tc0.
+        t: f64,
+        /// Mismatch h/Tc0.
+        h: f64,
+        /// The last wavevector of the scan, Q/Tc0.
+        q: f64,
+    },
 }
 
 /// Lowest temperature t = T/Tc0 searched for instability lines.

@@ -16,9 +16,13 @@ pub enum LineStop {
     /// No sign change where it was searched for: the interval [lo, hi] and the values at its
     /// ends.
     NoSignChange {
+        /// Lower end of the interval searched.
         lo: f64,
+        /// Upper end of the interval searched.
         hi: f64,
+        /// The function at `lo` (NaN where not evaluated).
         f_lo: f64,
+        /// The function at `hi`.
         f_hi: f64,
     },
 }

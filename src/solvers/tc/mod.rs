@@ -59,6 +59,7 @@ impl Default for TcSolver {
     }
 }
 
+/// Whether a critical-temperature search found an instability.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum TcStatus {
@@ -76,6 +77,7 @@ pub struct TcReport {
     /// Estimated absolute error of tc in meV (susceptibility error over the slope, plus the
     /// bracket).
     pub error: f64,
+    /// Whether an instability was found.
     pub status: TcStatus,
     /// Why no instability was found, where none was.
     pub reason: Option<String>,
@@ -100,6 +102,7 @@ pub enum TcStop {
 /// The modulated instability: Tc at the best wavevector.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct ModulatedTc {
+    /// The Tc at q* (meV).
     pub tc: TcReport,
     /// q* in 1/nm (lab frame); along +x for an isotropic channel; zero when the uniform state wins.
     pub q: [f64; 2],
