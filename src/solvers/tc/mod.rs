@@ -26,6 +26,7 @@ mod tracker;
 pub mod weak;
 
 use qgrid::{Start, SCAN_TOL};
+use qsearch::QSearch;
 
 /// Tolerances of the critical-temperature searches.
 #[derive(Debug, Clone, Copy)]
@@ -236,6 +237,23 @@ impl TcSolver {
         self.at_q(model, ch, [0.0, 0.0])
     }
 
+    /// The search over q of the channel, counting evaluations in `count`.
+    fn q_search<'a>(
+        &'a self,
+        model: &'a Model,
+        ch: &'a Channel,
+        iso: bool,
+        count: &'a Cell<usize>,
+    ) -> QSearch<'a> {
+        QSearch {
+            solver: self,
+            model,
+            ch,
+            iso,
+            count,
+        }
+    }
+
     /// Scale of |q| for the search: see [`q_search_scale`].
     fn q_scale(&self, model: &Model, ch: &Channel, t: f64) -> f64 {
         q_search_scale(model, ch, t)
@@ -251,8 +269,10 @@ impl TcSolver {
         count: &Cell<usize>,
     ) -> Result<([f64; 2], f64), NumericalError> {
         let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
-        let grid = self.grid_scan(model, ch, t, acc, iso, count)?;
-        let m = self.refine_grid(model, ch, t, acc, iso, &grid, None, count)?;
+        let grid = self.q_search(model, ch, iso, count).grid_scan(t, acc)?;
+        let m = self
+            .q_search(model, ch, iso, count)
+            .refine_grid(t, acc, &grid, None)?;
         Ok((m.q, m.value))
     }
 
@@ -267,22 +287,21 @@ impl TcSolver {
         let count = Cell::new(0);
         let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
         let coarse = self.acc.coarse();
-        let grid = self.grid_scan(model, ch, t, &coarse, iso, &count)?;
-        let c = self.refine_grid(model, ch, t, &coarse, iso, &grid, Some(SCAN_TOL), &count)?;
+        let grid = self
+            .q_search(model, ch, iso, &count)
+            .grid_scan(t, &coarse)?;
+        let c =
+            self.q_search(model, ch, iso, &count)
+                .refine_grid(t, &coarse, &grid, Some(SCAN_TOL))?;
         let zero = [0.0, 0.0];
         if c.q == zero {
             return Ok((zero, self.g_chi(model, ch, zero, t, &self.acc)?));
         }
         let qm = c.q[0].hypot(c.q[1]);
-        let f = self.local_max(
-            model,
-            ch,
-            t,
-            &self.acc,
-            iso,
-            Start::at(c.q, 0.02 * qm, 0.02),
-            &count,
-        )?;
+        let start = Start::at(c.q, 0.02 * qm, 0.02);
+        let f = self
+            .q_search(model, ch, iso, &count)
+            .local_max(t, &self.acc, start)?;
         if f.q == zero {
             return Ok((zero, self.g_chi(model, ch, zero, t, &self.acc)?));
         }

@@ -167,7 +167,9 @@ impl TcSolver {
         count: &Cell<usize>,
     ) -> Result<(), NumericalError> {
         let coarse = self.acc.coarse();
-        let grid = self.grid_scan(model, ch, root_t, &coarse, iso, count)?;
+        let grid = self
+            .q_search(model, ch, iso, count)
+            .grid_scan(root_t, &coarse)?;
         let vl = ch.g * susceptibility(&Shell::for_channel(model, ch, q)?, root_t, &coarse)?.value;
         count.set(count.get() + 1);
         let qn = q[0].hypot(q[1]);
@@ -186,7 +188,9 @@ impl TcSolver {
                 continue;
             }
             let start = grid.start_at(j, i, Some(COMPETITOR_TOL));
-            let m = self.local_max(model, ch, root_t, &coarse, iso, start, count)?;
+            let m = self
+                .q_search(model, ch, iso, count)
+                .local_max(root_t, &coarse, start)?;
             if m.value > limit && !near(m.q) {
                 return Err(self.competing(ch, m.q, q));
             }
@@ -266,7 +270,9 @@ impl TcSolver {
     ) -> Result<Scan, NumericalError> {
         let ratio = 0.8;
         let t_stop = bottom.t();
-        let top = self.scan_point(model, ch, t_top, iso, None, count)?;
+        let top = self
+            .q_search(model, ch, iso, count)
+            .scan_point(t_top, None)?;
         if top.value >= 1.0 {
             return Err(NumericalError::Invalid(format!(
                 "{what}: unstable at the top temperature {t_top:.4e} meV"
@@ -295,7 +301,7 @@ impl TcSolver {
                         .last()
                         .filter(|p| p.refined && p.q != [0.0, 0.0])
                         .map(|p| p.q);
-                    self.scan_point(model, ch, t, iso, prev, count)?
+                    self.q_search(model, ch, iso, count).scan_point(t, prev)?
                 }
             };
             let prev = pts.last().copied().unwrap_or(p);
@@ -317,8 +323,9 @@ impl TcSolver {
         let (lo, hi) = (pts[i + 1].t.ln(), pts[i - 1].t.ln());
         let coarse = self.acc.coarse();
         let global = |t: f64| -> Result<QMax, NumericalError> {
-            let grid = self.grid_scan(model, ch, t, &coarse, iso, count)?;
-            self.refine_grid(model, ch, t, &coarse, iso, &grid, None, count)
+            let grid = self.q_search(model, ch, iso, count).grid_scan(t, &coarse)?;
+            self.q_search(model, ch, iso, count)
+                .refine_grid(t, &coarse, &grid, None)
         };
         let m = brent_max(what, lo, hi, 1e-6, |x| Ok(global(x.exp())?.value))?;
         if m.value >= 1.0 {

@@ -9,19 +9,27 @@ use crate::kernels::Accuracy;
 use crate::model::{Channel, Model};
 use std::cell::Cell;
 
-impl TcSolver {
+/// The search over q of one channel: the solver's settings, the channel, whether g chi depends
+/// on |q| only, and the counter of evaluations (the temperature and accuracy vary per call).
+#[derive(Clone, Copy)]
+pub(super) struct QSearch<'a> {
+    pub(super) solver: &'a TcSolver,
+    pub(super) model: &'a Model,
+    pub(super) ch: &'a Channel,
+    pub(super) iso: bool,
+    pub(super) count: &'a Cell<usize>,
+}
+
+impl QSearch<'_> {
     /// g chi(q, T) at fixed T as a function of q, counting evaluations in `count`.
-    fn counted_g_chi<'a>(
-        &'a self,
-        model: &'a Model,
-        ch: &'a Channel,
+    fn counted_g_chi<'b>(
+        &'b self,
         t: f64,
-        acc: &'a Accuracy,
-        count: &'a Cell<usize>,
-    ) -> impl Fn([f64; 2]) -> Result<f64, NumericalError> + 'a {
+        acc: &'b Accuracy,
+    ) -> impl Fn([f64; 2]) -> Result<f64, NumericalError> + 'b {
         move |q| {
-            count.set(count.get() + 1);
-            self.g_chi(model, ch, q, t, acc)
+            self.count.set(self.count.get() + 1);
+            self.solver.g_chi(self.model, self.ch, q, t, acc)
         }
     }
 
@@ -30,28 +38,20 @@ impl TcSolver {
     /// `directions` directions over 180 degrees (one for an isotropic channel), and, where q = 0
     /// is the best grid point, a probe at a quarter of the spacing for a maximum below the first
     /// grid point.
-    pub(super) fn grid_scan(
-        &self,
-        model: &Model,
-        ch: &Channel,
-        t: f64,
-        acc: &Accuracy,
-        iso: bool,
-        count: &Cell<usize>,
-    ) -> Result<QGrid, NumericalError> {
-        let eval = self.counted_g_chi(model, ch, t, acc, count);
-        let dirs: Vec<f64> = if iso {
+    pub(super) fn grid_scan(&self, t: f64, acc: &Accuracy) -> Result<QGrid, NumericalError> {
+        let eval = self.counted_g_chi(t, acc);
+        let dirs: Vec<f64> = if self.iso {
             vec![0.0]
         } else {
-            (0..self.directions.max(1))
-                .map(|i| std::f64::consts::PI * i as f64 / self.directions.max(1) as f64)
+            (0..self.solver.directions.max(1))
+                .map(|i| std::f64::consts::PI * i as f64 / self.solver.directions.max(1) as f64)
                 .collect()
         };
-        let mut qmax = 2.0 * self.q_scale(model, ch, t);
+        let mut qmax = 2.0 * self.solver.q_scale(self.model, self.ch, t);
         // chi depends on q only through eps_a(k + q): its structure in q is smeared over
         // |q| ~ T / v_a.
         let v_max = {
-            let a = &model.pockets[ch.a];
+            let a = &self.model.pockets[self.ch.a];
             [[1.0, 0.0], [0.0, 1.0], [0.6, 0.8], [-0.8, 0.6]]
                 .iter()
                 .map(|d| a.fermi_velocity_along(*d))
@@ -60,7 +60,7 @@ impl TcSolver {
         // Where T is large enough, fewer points already resolve chi(q) on its thermal scale
         // (steps of at most 2 T / v_max, see `QGrid::upper_at`).
         let resolving = (qmax * v_max / (2.0 * t)).ceil() as usize + 1;
-        let n = self.q_points.min(resolving.max(MIN_Q_POINTS)).max(4);
+        let n = self.solver.q_points.min(resolving.max(MIN_Q_POINTS)).max(4);
         let zero = eval([0.0, 0.0])?;
         let mut values: Vec<Vec<f64>> = Vec::new();
         let mut extend = 0;
@@ -106,17 +106,12 @@ impl TcSolver {
 
     /// Refinement of the best point of a grid scan (at the grid's accuracy). q = 0 when the
     /// uniform susceptibility is the largest.
-    #[allow(clippy::too_many_arguments)]
     pub(super) fn refine_grid(
         &self,
-        model: &Model,
-        ch: &Channel,
         t: f64,
         acc: &Accuracy,
-        iso: bool,
         grid: &QGrid,
         tol: Option<f64>,
-        count: &Cell<usize>,
     ) -> Result<QMax, NumericalError> {
         let zero = QMax {
             q: [0.0, 0.0],
@@ -140,7 +135,7 @@ impl TcSolver {
         } else {
             grid.start_at(j, i, tol)
         };
-        let m = self.local_max(model, ch, t, acc, iso, start, count)?;
+        let m = self.local_max(t, acc, start)?;
         if m.value <= grid.zero {
             return Ok(zero);
         }
@@ -151,21 +146,16 @@ impl TcSolver {
     /// |q| and, for anisotropic channels, alternately in the direction (and along each round's
     /// displacement), until a round gains less than the start's tolerance (by default a
     /// hundredth of the susceptibility target).
-    #[allow(clippy::too_many_arguments)]
     pub(super) fn local_max(
         &self,
-        model: &Model,
-        ch: &Channel,
         t: f64,
         acc: &Accuracy,
-        iso: bool,
         start: Start,
-        count: &Cell<usize>,
     ) -> Result<QMax, NumericalError> {
-        let eval = self.counted_g_chi(model, ch, t, acc, count);
+        let eval = self.counted_g_chi(t, acc);
         let tol_rel = start.tol.unwrap_or(VALUE_TOL * acc.rtol);
         let mut qm = start.q[0].hypot(start.q[1]);
-        let mut phi = if iso || qm == 0.0 {
+        let mut phi = if self.iso || qm == 0.0 {
             0.0
         } else {
             start.q[1].atan2(start.q[0])
@@ -180,7 +170,7 @@ impl TcSolver {
             })?;
             let round_start = m.start;
             qm = m.x.abs();
-            if iso || qm == 0.0 {
+            if self.iso || qm == 0.0 {
                 return Ok(QMax {
                     q: polar(qm, phi),
                     value: m.value,
@@ -221,7 +211,7 @@ impl TcSolver {
         Err(NumericalError::NotConverged {
             what: format!(
                 "maximum of chi over q of channel {} at T = {t:.6e} meV",
-                ch.label
+                self.ch.label
             ),
             iterations: MAX_ROUNDS,
             last_change: f64::NAN,
@@ -237,15 +227,11 @@ impl TcSolver {
     /// peak sharpened by the low temperature in fewer steps than from the grid spacing.
     pub(super) fn scan_point(
         &self,
-        model: &Model,
-        ch: &Channel,
         t: f64,
-        iso: bool,
         prev: Option<[f64; 2]>,
-        count: &Cell<usize>,
     ) -> Result<ScanPoint, NumericalError> {
-        let coarse = self.acc.coarse();
-        let grid = self.grid_scan(model, ch, t, &coarse, iso, count)?;
+        let coarse = self.solver.acc.coarse();
+        let grid = self.grid_scan(t, &coarse)?;
         let (j, i) = grid.best;
         if i == 0 && grid.small.is_none() {
             return Ok(ScanPoint {
@@ -269,7 +255,7 @@ impl TcSolver {
                 .rem_euclid(std::f64::consts::PI)
                 - 0.5 * std::f64::consts::PI;
             let close = (pm - grid.dq * i as f64).abs() <= grid.dq
-                && (iso || dphi.abs() <= grid.dir_step());
+                && (self.iso || dphi.abs() <= grid.dir_step());
             if close && pm > 0.0 {
                 let start = Start {
                     q: p,
@@ -278,7 +264,7 @@ impl TcSolver {
                     known: [None; 3],
                     tol: Some(SCAN_TOL),
                 };
-                let m = self.local_max(model, ch, t, &coarse, iso, start, count)?;
+                let m = self.local_max(t, &coarse, start)?;
                 if m.value >= grid.values[j][i] {
                     return Ok(ScanPoint {
                         t,
@@ -289,7 +275,7 @@ impl TcSolver {
                 }
             }
         }
-        let m = self.refine_grid(model, ch, t, &coarse, iso, &grid, Some(SCAN_TOL), count)?;
+        let m = self.refine_grid(t, &coarse, &grid, Some(SCAN_TOL))?;
         Ok(ScanPoint {
             t,
             q: m.q,

@@ -2,6 +2,7 @@
 //! with the local maximum over q followed from temperature to temperature.
 
 use super::qgrid::*;
+use super::qsearch::QSearch;
 use super::TcSolver;
 use crate::error::NumericalError;
 use crate::model::{Channel, Model};
@@ -115,9 +116,14 @@ impl<'a> Tracker<'a> {
                 Start::at(q, (2.0 * dr).max(MIN_STEP * m), (2.0 * dp).max(MIN_STEP))
             }
         };
-        let m = self
-            .solver
-            .local_max(self.model, self.ch, t, acc, self.iso, start, self.count)?;
+        let search = QSearch {
+            solver: self.solver,
+            model: self.model,
+            ch: self.ch,
+            iso: self.iso,
+            count: self.count,
+        };
+        let m = search.local_max(t, acc, start)?;
         let p = FinePoint {
             t,
             q: m.q,
