@@ -2,6 +2,7 @@
 //! by a downward temperature scan, a fine bracket in ln T and Brent, with a global check at the root.
 
 use super::qgrid::*;
+use super::qsearch::QSearch;
 use super::tracker::{FinePoint, Tracker};
 use super::{nested_tc, no_instability, ModulatedTc, TcReport, TcSolver, TcStatus, TcStop};
 use crate::error::NumericalError;
@@ -57,7 +58,7 @@ impl TcSolver {
             }
         };
         // Fine stage in x = ln T.
-        let mut track = Tracker::new(self, model, ch, iso, &count, lo.q);
+        let mut track = Tracker::new(self.q_search(model, ch, iso, &count), lo.q);
         let limits = FineLimits {
             floor,
             t_top,
@@ -126,7 +127,7 @@ impl TcSolver {
             if s < 0.0 {
                 s
             } else {
-                -track.ch.lambda().max(1e-3)
+                -track.search.ch.lambda().max(1e-3)
             }
         };
         // Limits of the bracket search: the coarse rule may misplace the root slightly, but
@@ -311,6 +312,17 @@ impl TcSolver {
             pts.push(p);
         }
         // No sign change on the grid: the curve may poke above 1 between two grid points.
+        self.between_scan_points(self.q_search(model, ch, iso, count), &pts, what)
+    }
+
+    /// Where the downward scan `pts` shows no sign change: the maximum over ln T of the global
+    /// maximum over q around the best scan point; a bracket if it reaches 1.
+    fn between_scan_points(
+        &self,
+        search: QSearch,
+        pts: &[ScanPoint],
+        what: &str,
+    ) -> Result<Scan, NumericalError> {
         let mut i = 0;
         for (k, p) in pts.iter().enumerate() {
             if p.value > pts[i].value {
@@ -323,9 +335,8 @@ impl TcSolver {
         let (lo, hi) = (pts[i + 1].t.ln(), pts[i - 1].t.ln());
         let coarse = self.acc.coarse();
         let global = |t: f64| -> Result<QMax, NumericalError> {
-            let grid = self.q_search(model, ch, iso, count).grid_scan(t, &coarse)?;
-            self.q_search(model, ch, iso, count)
-                .refine_grid(t, &coarse, &grid, None)
+            let grid = search.grid_scan(t, &coarse)?;
+            search.refine_grid(t, &coarse, &grid, None)
         };
         let m = brent_max(what, lo, hi, 1e-6, |x| Ok(global(x.exp())?.value))?;
         if m.value >= 1.0 {

@@ -3,10 +3,7 @@
 
 use super::qgrid::*;
 use super::qsearch::QSearch;
-use super::TcSolver;
 use crate::error::NumericalError;
-use crate::model::{Channel, Model};
-use std::cell::Cell;
 
 /// A full-accuracy point of the temperature search.
 #[derive(Debug, Clone, Copy)]
@@ -25,30 +22,16 @@ pub(super) struct FinePoint {
 /// maximum over q followed from temperature to temperature (and every point kept, so that a
 /// temperature asked for twice is not recomputed).
 pub(super) struct Tracker<'a> {
-    pub(super) solver: &'a TcSolver,
-    pub(super) model: &'a Model,
-    pub(super) ch: &'a Channel,
-    pub(super) iso: bool,
-    pub(super) count: &'a Cell<usize>,
+    /// The channel's search over q (its counter counts every evaluation).
+    pub(super) search: QSearch<'a>,
     pub(super) seed: [f64; 2],
     pub(super) points: Vec<FinePoint>,
 }
 
 impl<'a> Tracker<'a> {
-    pub(super) fn new(
-        solver: &'a TcSolver,
-        model: &'a Model,
-        ch: &'a Channel,
-        iso: bool,
-        count: &'a Cell<usize>,
-        seed: [f64; 2],
-    ) -> Self {
+    pub(super) fn new(search: QSearch<'a>, seed: [f64; 2]) -> Self {
         Tracker {
-            solver,
-            model,
-            ch,
-            iso,
-            count,
+            search,
             seed,
             points: Vec::new(),
         }
@@ -62,7 +45,8 @@ impl<'a> Tracker<'a> {
         if let Some(p) = self.points.iter().find(|p| p.t == t) {
             return Ok(*p);
         }
-        let acc = &self.solver.acc;
+        let search = self.search;
+        let acc = &search.solver.acc;
         let mut refined: Vec<FinePoint> =
             self.points.iter().filter(|p| p.refined).copied().collect();
         let dist = |p: &FinePoint| (p.t / t).ln().abs();
@@ -75,7 +59,7 @@ impl<'a> Tracker<'a> {
                     Start::at(self.seed, 0.05 * m, 0.05)
                 } else {
                     // No wavevector to start from (the coarse maximum sat at q = 0).
-                    let s = 0.05 * self.solver.q_scale(self.model, self.ch, t);
+                    let s = 0.05 * search.solver.q_scale(search.model, search.ch, t);
                     Start::at([s, 0.0], s, 0.05)
                 }
             }
@@ -97,10 +81,10 @@ impl<'a> Tracker<'a> {
                 let (m, f) = (m1 + w * (m2 - m1), f1 + w * df);
                 let (dr, dp) = ((m - m1).abs(), (w * df).abs());
                 let predicted = 2.0 * p1.shortfall + p1.curv_r * dr * dr + p1.curv_phi * dp * dp;
-                let q = if self.iso { [m, 0.0] } else { polar(m, f) };
+                let q = if search.iso { [m, 0.0] } else { polar(m, f) };
                 if predicted <= VALUE_TOL * acc.rtol * p1.value.abs() {
-                    self.count.set(self.count.get() + 1);
-                    let value = self.solver.g_chi(self.model, self.ch, q, t, acc)?;
+                    search.count.set(search.count.get() + 1);
+                    let value = search.solver.g_chi(search.model, search.ch, q, t, acc)?;
                     let p = FinePoint {
                         t,
                         q,
@@ -115,13 +99,6 @@ impl<'a> Tracker<'a> {
                 }
                 Start::at(q, (2.0 * dr).max(MIN_STEP * m), (2.0 * dp).max(MIN_STEP))
             }
-        };
-        let search = QSearch {
-            solver: self.solver,
-            model: self.model,
-            ch: self.ch,
-            iso: self.iso,
-            count: self.count,
         };
         let m = search.local_max(t, acc, start)?;
         let p = FinePoint {
