@@ -1,7 +1,14 @@
-//! Critical temperatures from the linearised gap equation g chi(q, T) = 1 (physics.md section 3):
+//! Critical temperatures from the linearised gap equation g chi(q, T) = 1 (see the crate docs
+//! (`crate::theory`)):
 //! Tc(q) as the largest root in T (scan from the top, then Brent), the uniform Tc = Tc(0), and
 //! the modulated Tc = max over q of Tc(q) with its wavevector q* (global scan over |q| and, for
 //! anisotropic channels, the direction; then Brent refinement). Temperatures are k_B T in meV.
+//!
+//! The methods written once for any [`crate::kernels::equation::PairEquation`]: [`root`] (the
+//! largest root in T), [`qline`] (the maximum over |q| along a direction) and [`lines`] (the
+//! instability lines and special points of a mismatch family). The exact shell integral's own
+//! two-dimensional search over q: `qgrid`, `qsearch`, `parabolic`, `tracker` and `modulated`.
+//! The weak-coupling closed form's Tc and lines: [`weak`].
 
 use crate::error::NumericalError;
 use crate::kernels::susceptibility::{susceptibility, susceptibility_checked};

@@ -7,8 +7,8 @@
 use super::*;
 use crate::kernels::weak::pair_margin;
 
-/// Check values quoted to 4 decimals (physics.md section 8, mpmath at 30 digits, and the cited
-/// papers): rounding allows 5e-5; 2e-4 absolute leaves room for the flat maximum in Q.
+/// Check values quoted to 4 decimals (mpmath at 30 digits and the cited papers; see the crate
+/// docs (`crate::theory`)): rounding allows 5e-5; 2e-4 absolute leaves room for the flat maximum in Q.
 const TABLE_TOL: f64 = 2e-4;
 
 /// Against 20-digit mpmath values of the margin itself: the target accuracy of `pair_margin`.
@@ -19,7 +19,7 @@ const MARGIN_TOL: f64 = 1e-10;
 const ROUTE_TOL: f64 = 1e-8;
 
 /// uniform_tc(0) = 1 (definition of Tc0); the uniform line at t = 0.2 is h = 0.9658
-/// (physics.md section 8, mpmath 1.3 at 30 digits); uniform_tc inverts uniform_line_h.
+/// (mpmath 1.3 at 30 digits); uniform_tc inverts uniform_line_h.
 #[test]
 fn uniform_line() {
     assert_eq!(uniform_tc(0.0).unwrap(), Some(1.0));
@@ -60,8 +60,8 @@ fn uniform_tc_takes_the_upper_branch() {
 }
 
 /// Tricritical point t = 0.5615, h = 1.0728 (Sarma, J. Phys. Chem. Solids 24, 1029 (1963);
-/// Saint-James, Sarma, Thomas (1969)); the Lifshitz point coincides in weak coupling (physics.md
-/// section 5; Buzdin and Kachkachi 1997).
+/// Saint-James, Sarma, Thomas (1969)); the Lifshitz point coincides in weak coupling (Buzdin and
+/// Kachkachi 1997; see the crate docs (`crate::theory`)).
 #[test]
 fn tricritical_and_lifshitz_points() {
     let (t, h) = tricritical().unwrap();
@@ -75,7 +75,7 @@ fn tricritical_and_lifshitz_points() {
     );
 }
 
-/// Modulated line at t = 0.2: h = 1.3519, Q* = 1.5023 (physics.md section 8, mpmath 1.3 at 30
+/// Modulated line at t = 0.2: h = 1.3519, Q* = 1.5023 (mpmath 1.3 at 30
 /// digits).
 #[test]
 fn modulated_line_at_t_0_2() {
@@ -88,7 +88,7 @@ fn modulated_line_at_t_0_2() {
 }
 
 /// Low-temperature modulated line: h = 1.6189 / 1.6959 / 1.7262, Q*/h = 1.0551 / 1.0275 / 1.0158
-/// at t = 0.05 / 0.02 / 0.01 (physics.md section 8, mpmath 1.3 at 30 digits); the approach to the
+/// at t = 0.05 / 0.02 / 0.01 (mpmath 1.3 at 30 digits); the approach to the
 /// T -> 0 limits h -> Delta0, Q*/h -> 1 (Burkhardt and Rainer, Ann. Phys. 3, 181 (1994); Shimahara,
 /// PRB 50, 12760 (1994)) is monotonic.
 #[test]
