@@ -35,7 +35,7 @@ pub struct QLineMax {
     pub stop: QLineStop,
 }
 
-/// Maximum over |q| in [0, grid.last()] of `eq.excess(|q| dir, t)` (grid ascending, grid[0] = 0),
+/// Maximum over |q| in `[0, grid.last()]` of `eq.excess(|q| dir, t)` (grid ascending, `grid[0] = 0`),
 /// refined to `tol` in |q|.
 pub fn max_over_q_line<E: PairEquation + ?Sized>(
     eq: &E,
