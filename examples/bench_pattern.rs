@@ -7,12 +7,12 @@
 //! cutoff/E_F = 0.05, lambda = 0.25, Tc0 = 0.1038 meV), at T = 0.3 Tc0 and T = 0.1 Tc0.
 
 use nestor::config::{ConfigSource, Override};
-use nestor::kernels::weak::modulated_line;
 use nestor::kernels::weak_structures::structure_quadruples_weak;
 use nestor::model::structure::Structure;
 use nestor::solvers::pattern::PatternSolver;
 use nestor::solvers::pattern_state::{solve_structure, HarmonicCheck, PatternOptions};
 use nestor::solvers::relative_phases::best_phases;
+use nestor::solvers::tc::weak::modulated_line;
 use std::time::Instant;
 
 const CONFIG: &str = include_str!("../configs/reference/nested_parabolic.toml");

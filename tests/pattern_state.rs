@@ -15,7 +15,7 @@ use nestor::kernels::grand_potential::grand_potential;
 use nestor::kernels::harmonics::{
     omega_components, ray_symmetry, HarmonicGrid, HarmonicSet, OmegaAt, RaySymmetry,
 };
-use nestor::kernels::{weak, Accuracy, Shell};
+use nestor::kernels::{Accuracy, Shell};
 use nestor::model::structure::Structure;
 use nestor::model::Model;
 use nestor::solvers::ordered::OrderedSolver;
@@ -41,7 +41,7 @@ fn pair_at(h: f64) -> Model {
 /// `theory::susceptibility`), in 1/nm along x for the reference pair.
 fn q_star(m: &Model, t: f64, h: f64) -> f64 {
     let v = m.pockets()[0].fermi_velocity_along([1.0, 0.0]);
-    let (_, q) = weak::modulated_point(t, h).unwrap();
+    let (_, q) = nestor::solvers::tc::weak::modulated_point(t, h).unwrap();
     2.0 * q * tc0() / v
 }
 

@@ -61,7 +61,7 @@ fn tricritical_lifshitz_and_first_order_line() {
     let lp = d.lifshitz.expect("a Lifshitz point");
     assert!((lp.t / TC0 - 0.5615).abs() < tol::SPECIAL_POINT);
     assert!((h_of(lp.value) - h_of(tcp.value)).abs() < 1e-3);
-    let (t_weak, h_weak) = nestor::kernels::weak::lifshitz().unwrap();
+    let (t_weak, h_weak) = nestor::solvers::tc::weak::lifshitz().unwrap();
     assert!((lp.t / TC0 - t_weak).abs() < tol::SPECIAL_POINT);
     assert!((h_of(lp.value) - h_weak).abs() < tol::SPECIAL_POINT);
     // The lowest row of the first-order line.

@@ -12,8 +12,8 @@ mod common;
 
 use common::tol;
 use common::*;
-use nestor::kernels::weak;
 use nestor::solvers::roots::brent_root;
+use nestor::solvers::tc::weak;
 use nestor::solvers::{TcSolver, TcStatus};
 
 /// Tc0 / cutoff = (2 e^gamma / pi) exp(-1/lambda) = 1.133866 exp(-1/lambda)

@@ -210,7 +210,7 @@ fn full_ranking_follows_the_weak_coupling_sequence() {
         (0.12, "square"),
         (0.03, "hexagon"),
     ] {
-        let (h, qq) = nestor::kernels::weak::modulated_line(t).unwrap();
+        let (h, qq) = nestor::solvers::tc::weak::modulated_line(t).unwrap();
         let (_, m) = nested_pair(LAMBDA, CUTOFF, 100.0, h * t0);
         let q = 2.0 * qq * t0 / v;
         let line = ps

@@ -8,12 +8,13 @@
 
 mod common;
 
-use nestor::kernels::weak::{modulated_line, quartic_weak, tricritical, uniform_line_h};
+use nestor::kernels::weak::quartic_weak;
 use nestor::kernels::weak_structures::{
     quadruple_weak, structure_quadruples_weak, structure_quartic_weak,
 };
 use nestor::model::structure::{rotate, Structure};
 use nestor::solvers::relative_phases::best_phases;
+use nestor::solvers::tc::weak::{modulated_line, tricritical, uniform_line_h};
 use nestor::special::polygamma;
 use num_complex::Complex64;
 use std::f64::consts::PI;

@@ -1,6 +1,7 @@
 //! Physics kernels: pure functions of a channel and a parameter point (wavevector, temperature,
 //! gap). Shell geometry and integration rules are shared by all of them.
 
+pub mod equation;
 pub mod grand_potential;
 pub mod harmonics;
 pub mod integrate;

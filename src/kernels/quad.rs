@@ -50,11 +50,14 @@ fn legendre_and_derivative(n: usize, z: f64) -> (f64, f64) {
 /// A Gauss-Legendre rule mapped onto panels.
 #[derive(Debug, Clone)]
 pub struct PanelRule {
+    /// Nodes on [-1, 1], ascending.
     pub nodes: Vec<f64>,
+    /// Weights of the nodes.
     pub weights: Vec<f64>,
 }
 
 impl PanelRule {
+    /// The `order`-node rule.
     pub fn new(order: usize) -> Self {
         let (nodes, weights) = gauss_legendre(order);
         PanelRule { nodes, weights }
@@ -74,7 +77,9 @@ impl PanelRule {
 /// A sharp feature at `at` whose width is about `scale` (same units as the axis).
 #[derive(Debug, Clone, Copy)]
 pub struct Feature {
+    /// Where the feature sits.
     pub at: f64,
+    /// Its width.
     pub scale: f64,
 }
 

@@ -13,4 +13,4 @@ pub mod roots;
 pub mod tc;
 pub mod tc_channel;
 
-pub use tc::{ModulatedTc, TcReport, TcSolver, TcStatus};
+pub use tc::{ModulatedTc, TcReport, TcSolver, TcStatus, TcStop};

@@ -1,11 +1,13 @@
 //! Critical temperatures of one channel, by the exact shell integral or by the weak-coupling
 //! closed form (`--method weak`), in one typed result that the reports turn into tables.
 
-use crate::error::{NestorError, NumericalError};
+use crate::error::NestorError;
+use crate::kernels::equation::EquationError;
 use crate::kernels::weak;
 use crate::kernels::Shell;
 use crate::model::{Channel, Model};
-use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus};
+use crate::solvers::tc::weak as weak_tc;
+use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus, TcStop};
 
 /// How the critical temperature is computed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
@@ -13,7 +15,7 @@ use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus};
 pub enum Method {
     /// The full 2D momentum integral over the shell with the real dispersions.
     Exact,
-    /// The digamma closed form of physics.md section 3 (circular pockets, equal velocities,
+    /// The digamma closed form (see the crate docs (`crate::theory`)) (circular pockets, equal velocities,
     /// Lambda and Tc much below the Fermi energies).
     Weak,
 }
@@ -21,13 +23,17 @@ pub enum Method {
 /// Uniform and modulated instability of one channel.
 #[derive(Debug, Clone)]
 pub struct ChannelTc {
+    /// The channel's label.
     pub label: String,
+    /// How the critical temperatures were computed.
     pub method: Method,
     /// The channel's mismatch h at this point, meV.
     pub mismatch: f64,
     /// Nested Tc 1.134 Lambda exp(-1/lambda), meV (the weak-coupling scale Tc0).
     pub tc_nested: Option<f64>,
+    /// The uniform (q = 0) instability.
     pub uniform: TcReport,
+    /// The most unstable wavevector and its Tc (the uniform one where q = 0 wins).
     pub modulated: ModulatedTc,
     /// Notes on approximations made (weak method outside its assumptions).
     pub notes: Vec<String>,
@@ -71,13 +77,36 @@ pub fn channel_tc(
     }
 }
 
-fn weak_err(e: weak::WeakError) -> NestorError {
-    NestorError::Numerical(NumericalError::WeakClosedForm(e.to_string()))
+/// The weak-coupling reports: Tc = t Tc0 with the closed form's accuracy (1e-9 relative), or no
+/// instability above the floor.
+fn weak_report(t: Option<f64>, t0: f64) -> TcReport {
+    match t {
+        Some(t) => TcReport {
+            tc: t * t0,
+            error: 1e-9 * t * t0,
+            status: TcStatus::Unstable,
+            reason: None,
+            evaluations: 0,
+            stop: TcStop::Converged,
+        },
+        None => TcReport {
+            tc: 0.0,
+            error: 0.0,
+            status: TcStatus::NoInstability,
+            reason: Some(format!(
+                "no instability above {:.1e} Tc0 (weak-coupling closed form)",
+                weak::T_FLOOR
+            )),
+            evaluations: 0,
+            stop: TcStop::BelowFloor,
+        },
+    }
 }
 
-fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError> {
+/// Where the channel departs from the closed form's assumptions (circular pockets, equal
+/// velocities, a constant form factor), and the velocity v (meV nm) the closed form uses.
+fn weak_notes(model: &Model, ch: &Channel) -> (Vec<String>, f64) {
     let (a, b) = (&model.pockets()[ch.a()], &model.pockets()[ch.b()]);
-    let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
     let mut notes = Vec::new();
     let dir = [1.0, 0.0];
     let (va, vb) = (a.fermi_velocity_along(dir), b.fermi_velocity_along(dir));
@@ -92,7 +121,15 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
     if !ch.form().is_constant() {
         notes.push("weak method: the form factor enters only through nu_ab (its angular structure is ignored)".into());
     }
-    let v = 0.5 * (va + vb);
+    (notes, 0.5 * (va + vb))
+}
+
+/// Both critical temperatures of the channel from the weak-coupling equation
+/// ([`crate::kernels::equation::WeakEquation`] at h = mismatch / Tc0), converted to meV and 1/nm.
+fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError> {
+    let iso = Shell::for_channel(model, ch, [0.0, 0.0])?.isotropic;
+    let (notes, v) = weak_notes(model, ch);
+    let weak_err = |e: weak::WeakError| EquationError::from(e).into_numerical();
     let Some(t0) = nested_tc(ch) else {
         let none = TcReport {
             tc: 0.0,
@@ -100,6 +137,7 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             status: TcStatus::NoInstability,
             reason: Some("the pair density of states vanishes".into()),
             evaluations: 0,
+            stop: TcStop::NoPairDensity,
         };
         return Ok(ChannelTc {
             label: ch.label().to_string(),
@@ -117,32 +155,13 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
         });
     };
     let h = ch.mismatch() / t0;
-    let report = |t: Option<f64>| match t {
-        Some(t) => TcReport {
-            tc: t * t0,
-            error: 1e-9 * t * t0,
-            status: TcStatus::Unstable,
-            reason: None,
-            evaluations: 0,
-        },
-        None => TcReport {
-            tc: 0.0,
-            error: 0.0,
-            status: TcStatus::NoInstability,
-            reason: Some(format!(
-                "no instability above {:.1e} Tc0 (weak-coupling closed form)",
-                weak::T_FLOOR
-            )),
-            evaluations: 0,
-        },
-    };
-    let uniform = report(weak::uniform_tc(h).map_err(weak_err)?);
-    let (mod_t, q) = match weak::modulated_tc(h).map_err(weak_err)? {
+    let uniform = weak_report(weak_tc::uniform_tc(h).map_err(weak_err)?, t0);
+    let (mod_t, q) = match weak_tc::modulated_tc(h).map_err(weak_err)? {
         Some((t, qq)) => (Some(t), qq),
         None => (None, 0.0),
     };
     let mut modulated = ModulatedTc {
-        tc: report(mod_t),
+        tc: weak_report(mod_t, t0),
         // Q = v q / 2 in units of Tc0.
         q: [2.0 * q * t0 / v, 0.0],
         isotropic: iso,
