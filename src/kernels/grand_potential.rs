@@ -1,4 +1,4 @@
-//! The ordered state of one channel with one wavevector (physics.md sections 4-5): the grand
+//! The ordered state of one channel with one wavevector (the crate docs, [`theory::ordered`](crate::theory::ordered) and [`theory::landau`](crate::theory::landau)): the grand
 //! potential Omega(Delta, q, T) relative to the normal state, the gap function whose zeros are the
 //! self-consistent gaps, and the quartic Landau coefficient from the fermion loop. Per spin
 //! channel; energies meV, Omega in meV/nm^2, T = k_B T in meV (T = 0 allowed).

@@ -1,6 +1,6 @@
 //! Shell integrals int_shell d^2k/(2 pi)^2 F(k) in polar coordinates about the shell's centre:
 //! the periodic trapezoid rule in angle (rays doubled until converged, the estimate reported) and
-//! graded Gauss-Legendre panels in radius (numerics.md). Every kernel that integrates over the
+//! graded Gauss-Legendre panels in radius (see the crate docs, [`theory::numerics`](crate::theory::numerics)). Every kernel that integrates over the
 //! shell goes through here.
 
 use crate::error::NumericalError;
@@ -15,7 +15,7 @@ pub struct Accuracy {
     pub rtol: f64,
     /// Gauss-Legendre nodes per radial panel.
     pub order: usize,
-    /// Panel width at a thermal feature, in units of T (numerics.md: about T/4).
+    /// Panel width at a thermal feature, in units of T (the crate docs, [`theory::numerics`](crate::theory::numerics): about T/4).
     pub feature_width: f64,
     /// Radial panel width relative to the distance from the nearest feature (geometric grading).
     pub growth: f64,

@@ -1,5 +1,5 @@
 //! Integration rules shared by the kernels: Gauss-Legendre nodes on [-1, 1] and graded panel
-//! breakpoints around the sharp thermal features of the integrands (numerics.md).
+//! breakpoints around the sharp thermal features of the integrands (see the crate docs, [`theory::numerics`](crate::theory::numerics)).
 
 /// Gauss-Legendre rule with `n` nodes on [-1, 1]: (nodes, weights), nodes ascending.
 ///

@@ -4,7 +4,7 @@
 //!
 //! xi_k = [eps_a(k + q) - eps_b(k)]/2 is convex in k for every pocket kind here (eps_a convex,
 //! eps_b concave), so every ray from a point below the shell crosses each level of xi once
-//! (numerics.md). k is measured from pocket b's centre, k + q from pocket a's.
+//! (see the crate docs, [`theory::numerics`](crate::theory::numerics)). k is measured from pocket b's centre, k + q from pocket a's.
 
 use crate::error::NumericalError;
 use crate::kernels::quad::{graded_breakpoints, Feature};

@@ -1,13 +1,13 @@
 //! Normal-state pair susceptibility chi(q, T) of one channel by the exact shell integral
-//! (physics.md section 3), and the nesting-line quantities at q = 0: pair density of states
-//! nu_ab and the mismatch h (physics.md section 2). Per spin channel, in 1/(meV nm^2).
+//! (the crate docs, [`theory::susceptibility`](crate::theory::susceptibility)), and the nesting-line quantities at q = 0: pair density of states
+//! nu_ab and the mismatch h (the crate docs, [`theory::channels`](crate::theory::channels)). Per spin channel, in 1/(meV nm^2).
 
 use crate::error::NumericalError;
 use crate::kernels::integrate::{nesting_line_integral, shell_integral_graded, Accuracy, Estimate};
 use crate::kernels::shell::Shell;
 
 /// [f(eps_b) - f(eps_a)] / (eps_a - eps_b) with eps_a = h + xi, eps_b = h - xi, written without
-/// cancellation or overflow: sinh(|xi|/T) / (2 |xi| [cosh(xi/T) + cosh(h/T)]) (numerics.md), with
+/// cancellation or overflow: sinh(|xi|/T) / (2 |xi| [cosh(xi/T) + cosh(h/T)]) (see the crate docs, [`theory::numerics`](crate::theory::numerics)), with
 /// the limit 1/(2T [1 + cosh(h/T)]) at xi = 0. Units 1/meV.
 ///
 /// With a = |xi|/T, b = |h|/T, m = max(a, b), p = e^{-|a - b|} and r = e^{-2 min(a, b)}, the

@@ -2,7 +2,7 @@
 //! lattice. Built by [`Model::new`] (from specs, in code or by [`crate::config`]) and varied by
 //! [`Model::with`]; kernels and solvers only read it.
 //!
-//! Conventions (physics.md sections 1-2): energies in meV from the common chemical potential,
+//! Conventions (the crate docs, [`theory::pockets`](crate::theory::pockets) and [`theory::channels`](crate::theory::channels)): energies in meV from the common chemical potential,
 //! momenta in 1/nm measured from each pocket's centre, hbar v in meV nm, masses in electron masses.
 
 mod build;
@@ -21,7 +21,7 @@ pub use spec::{DispersionSpec, PocketSpec, SpinSpec};
 
 use num_complex::Complex64;
 
-/// Spin matrix M of the order parameter (physics.md section 2).
+/// Spin matrix M of the order parameter (the crate docs, [`theory::channels`](crate::theory::channels)).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 pub enum SpinMatrix {
     /// Charge channel, spin-conserving: M = 1.
@@ -66,7 +66,7 @@ impl SpinMatrix {
 /// Band form factor of a channel: how W = |M_ab(k)|^2 depends on the two momenta.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum FormFactor {
-    /// W = 1: at least one pocket is spin-degenerate (physics.md section 2).
+    /// W = 1: at least one pocket is spin-degenerate (the crate docs, [`theory::channels`](crate::theory::channels)).
     Unity,
     /// Both pockets helical: W depends on the two spinor angles.
     Helical {
@@ -313,7 +313,7 @@ impl Model {
     }
 }
 
-/// Form factor of the pair (a, b) for spin matrix `m` (physics.md section 2).
+/// Form factor of the pair (a, b) for spin matrix `m` (the crate docs, [`theory::channels`](crate::theory::channels)).
 pub fn form_factor(a: &Pocket, b: &Pocket, m: SpinMatrix) -> FormFactor {
     match (a.spin(), b.spin()) {
         (
@@ -348,7 +348,7 @@ pub fn spin_channels(a: &Pocket, b: &Pocket) -> f64 {
 
 /// The band form factor M_ab = <chi_a(p_a)| M |chi_b(p_b)> between pocket a at momentum p_a and
 /// pocket b at p_b (each from its own centre): the helical matrix element when both pockets are
-/// helical, otherwise 1 (a degenerate pocket's spin is summed into W = 1, physics.md section 2).
+/// helical, otherwise 1 (a degenerate pocket's spin is summed into W = 1, the crate docs, [`theory::channels`](crate::theory::channels)).
 pub fn band_matrix_element(
     a: &Pocket,
     b: &Pocket,
@@ -433,8 +433,8 @@ mod tests {
         }
     }
 
-    /// Upper and lower cone with the same texture: W = 0 in the charge channel (physics.md
-    /// section 2).
+    /// Upper and lower cone with the same texture: W = 0 in the charge channel (the crate docs,
+    /// [`theory::channels`](crate::theory::channels)).
     #[test]
     fn same_texture_upper_and_lower_cone_has_no_charge_weight() {
         let ff = FormFactor::Helical {

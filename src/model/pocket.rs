@@ -1,5 +1,5 @@
 //! One Fermi-surface pocket: its dispersion, spin structure and derived single-pocket quantities
-//! (Fermi momenta and velocities, carrier density, density of states). physics.md section 1.
+//! (Fermi momenta and velocities, carrier density, density of states). See the crate docs, [`theory::pockets`](crate::theory::pockets).
 //!
 //! Momentum k (1/nm) is measured from the pocket's centre K in the lab frame; the pocket's own
 //! axes are rotated by `angle` (counter-clockwise) from the lab x axis.
@@ -185,7 +185,7 @@ impl Pocket {
     }
 
     /// e^{i theta} of the spinor at lab momentum k: theta is the polar angle of k for a parabolic
-    /// pocket, arg R(angle) (vx kx', vy ky') for a Dirac cone (physics.md section 1). Returns 1 at
+    /// pocket, arg R(angle) (vx kx', vy ky') for a Dirac cone (the crate docs, [`theory::pockets`](crate::theory::pockets)). Returns 1 at
     /// k = 0, where the angle is undefined.
     #[inline]
     pub fn spinor_direction(&self, k: [f64; 2]) -> Complex64 {

@@ -1,5 +1,5 @@
-//! Multi-wavevector structures Delta(r) = Delta sum_j e^{i phi_j} exp(i q_j.r) (physics.md
-//! section 5): the named sets of equal-length wavevectors, and the momentum-conserving ordered
+//! Multi-wavevector structures Delta(r) = Delta sum_j e^{i phi_j} exp(i q_j.r) (the crate docs,
+//! [`theory::landau`](crate::theory::landau)): the named sets of equal-length wavevectors, and the momentum-conserving ordered
 //! quadruples (j1, j2, j3, j4) with q_j1 - q_j2 + q_j3 - q_j4 = 0 that the quartic Landau
 //! coefficient sums over.
 

@@ -1,6 +1,6 @@
 //! Observables: what a measurement sees of a solved state, computed from the solvers' results
 //! (the step between the solvers and the reports). [`density`]: density waves, density and gap
-//! maps, map correlations; [`spectrum`]: the quasiparticle gap or gapless arcs of an ordered
+//! maps, map correlations; [`mod@spectrum`]: the quasiparticle gap or gapless arcs of an ordered
 //! state.
 
 pub mod density;

@@ -544,8 +544,8 @@ pub fn ordered_text(
     s
 }
 
-/// First-order density modulation of a single-wavevector state (physics.md section 6): at
-/// P = K_a - K_b + q (folded into the first zone when a [surface] lattice is given), amplitude
+/// First-order density modulation of a single-wavevector state (the crate docs, [`theory::patterns`](crate::theory::patterns)): at
+/// P = K_a - K_b + q (folded into the first zone when a `[surface]` lattice is given), amplitude
 /// 2 n_s |m_ab Delta| / g per nm^2 (charge for M = 1, spin density along i for M = sigma_i).
 pub fn density_modulation(m: &Model, c: &Channel, s: &crate::solvers::ordered::Solution) -> Value {
     if s.delta <= 0.0 {

@@ -1,4 +1,4 @@
-//! Fixed net carrier number (canonical mode, physics.md section 4): the net carrier density
+//! Fixed net carrier number (canonical mode, the crate docs, [`theory::ordered`](crate::theory::ordered)): the net carrier density
 //! (electrons in electron-like pockets minus holes in hole-like pockets, counted from band edges and
 //! Dirac points) is held fixed by shifting the common chemical potential, which moves every offset
 //! and so the mismatch. A grand-canonical first-order jump between the normal and the uniform state

@@ -1,4 +1,4 @@
-//! Ordered states of one channel at a temperature (physics.md section 4): every solution of the
+//! Ordered states of one channel at a temperature (the crate docs, [`theory::ordered`](crate::theory::ordered)): every solution of the
 //! gap equation for the uniform (q = 0) and the single-wavevector (plane-wave) state, each
 //! classified stable, metastable or unstable from Omega, and the chosen state (lowest Omega over
 //! normal, uniform and modulated).
@@ -424,7 +424,7 @@ pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
     crate::solvers::tc::q_search_scale(model, ch, t.max(t_floor))
 }
 
-/// Two uniform channels that share a pocket, ordered together (physics.md section 4).
+/// Two uniform channels that share a pocket, ordered together (the crate docs, [`theory::ordered`](crate::theory::ordered)).
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct CoupledChannels {
     /// Labels of the two channels.

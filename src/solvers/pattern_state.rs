@@ -1,4 +1,4 @@
-//! Self-consistent multi-wavevector states of one channel (physics.md sections 4 and 6): the
+//! Self-consistent multi-wavevector states of one channel (the crate docs, [`theory::ordered`](crate::theory::ordered) and [`theory::patterns`](crate::theory::patterns)): the
 //! Fourier components Delta_G of a structure (first harmonics q_j and the higher harmonics they
 //! generate) that solve Delta_G = -g C_G, with C_G the coherence of
 //! [`crate::kernels::harmonics`] (the derivative of the same truncated Omega, so a solution is a

@@ -1,5 +1,5 @@
 //! Relative phases of a multi-wavevector structure: the minimum over the phases phi_j of the
-//! quartic term with equal amplitudes (physics.md section 5),
+//! quartic term with equal amplitudes (the crate docs, [`theory::landau`](crate::theory::landau)),
 //!
 //! ```text
 //! F4(phi) = sum_quadruples B_quad cos(phi_j1 - phi_j2 + phi_j3 - phi_j4),

@@ -27,7 +27,7 @@
 //! is the set of a-state offsets of the b-centred window: the first harmonics and the higher
 //! harmonics (q_i - q_j + q_k, ...) that the order-m windows can generate. Only the connected
 //! component of c (through couplings inside the cutoff) is diagonalised; the rest of the window
-//! does not change [phi]_cc.
+//! does not change \[phi\]_cc.
 //!
 //! Properties (tested in tests/pattern_state.rs): every closed walk of length 2l from c stays
 //! within l steps, so the order-m windows reproduce Omega exactly through order 2m in Delta
