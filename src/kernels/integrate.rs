@@ -171,6 +171,42 @@ fn angular_span(symmetry: AngularSymmetry) -> (f64, bool, f64) {
 /// Rays of the periodic trapezoid rule before switching to adaptive panels.
 const TRAPEZOID_RAYS: usize = 512;
 
+/// One Gauss-Legendre panel [a, b] in angle of the ray sums, times `factor` / (2 pi)^2; counts
+/// the rays in `used`.
+fn angular_panel<const N: usize, R>(
+    rule: &PanelRule,
+    ray: &mut R,
+    factor: f64,
+    a: f64,
+    b: f64,
+    used: &mut usize,
+) -> Result<[f64; N], NumericalError>
+where
+    R: FnMut(f64) -> Result<[f64; N], NumericalError>,
+{
+    let norm = 1.0 / (4.0 * PI * PI);
+    let mut out = [0.0; N];
+    let mut failure = None;
+    rule.for_each_node(a, b, |th, w| {
+        if failure.is_some() {
+            return;
+        }
+        match ray(th) {
+            Ok(v) => {
+                for i in 0..N {
+                    out[i] += w * v[i];
+                }
+            }
+            Err(e) => failure = Some(e),
+        }
+    });
+    *used += rule.nodes.len();
+    match failure {
+        Some(e) => Err(e),
+        None => Ok(out.map(|x| factor * x * norm)),
+    }
+}
+
 /// Adaptive Gauss-Legendre panels in angle over [0, span], starting from the panels between
 /// `breaks`: each panel is accepted when its two halves agree with it to its share (by width) of
 /// the target, relative to `first_guess` (by default the sum over the starting panels).
@@ -189,30 +225,9 @@ where
     R: FnMut(f64) -> Result<[f64; N], NumericalError>,
     C: Fn(&[f64; N], &[f64; N]) -> bool,
 {
-    let norm = 1.0 / (4.0 * PI * PI);
     let rule = PanelRule::new(8);
-    let mut panel = |a: f64, b: f64, used: &mut usize| -> Result<[f64; N], NumericalError> {
-        let mut out = [0.0; N];
-        let mut failure = None;
-        rule.for_each_node(a, b, |th, w| {
-            if failure.is_some() {
-                return;
-            }
-            match ray(th) {
-                Ok(v) => {
-                    for i in 0..N {
-                        out[i] += w * v[i];
-                    }
-                }
-                Err(e) => failure = Some(e),
-            }
-        });
-        *used += rule.nodes.len();
-        match failure {
-            Some(e) => Err(e),
-            None => Ok(out.map(|x| factor * x * norm)),
-        }
-    };
+    let mut panel =
+        |a: f64, b: f64, used: &mut usize| angular_panel(&rule, ray, factor, a, b, used);
     let mut stack: Vec<(f64, f64, [f64; N])> = Vec::new();
     let mut base = [0.0; N];
     for w in breaks.windows(2) {
@@ -342,6 +357,24 @@ fn angular_features(
             hv[j.rem_euclid(mi) as usize]
         }
     };
+    let mut out = crossing_features(&hv, dth, span, energy_scale, &h0)?;
+    out.extend(closest_approaches(&at, m, dth, span, energy_scale, closed));
+    Ok(out)
+}
+
+/// The angles where h on the nesting line changes sign between samples `hv` (spaced `dth`),
+/// each refined by Illinois false position on `h0`, with the width energy_scale / |h'|.
+fn crossing_features<H>(
+    hv: &[f64],
+    dth: f64,
+    span: f64,
+    energy_scale: f64,
+    h0: &H,
+) -> Result<Vec<(f64, f64)>, NumericalError>
+where
+    H: Fn(f64) -> Result<f64, NumericalError>,
+{
+    let m = hv.len() - 1;
     let mut out = Vec::new();
     for j in 0..m {
         let (a, b) = (hv[j], hv[j + 1]);
@@ -380,6 +413,24 @@ fn angular_features(
         let slope = (h0(x + d)? - h0(x - d)?) / (2.0 * d);
         out.push((x, (energy_scale / slope.abs()).min(span)));
     }
+    Ok(out)
+}
+
+/// The local minima of |h| on the nesting line without a sign change (closest approach of the
+/// Fermi surfaces), from a parabola through three samples of `at` (spaced `dth`), with the width
+/// sqrt(2 max(|h|, energy_scale) / |h''|).
+fn closest_approaches<A>(
+    at: &A,
+    m: usize,
+    dth: f64,
+    span: f64,
+    energy_scale: f64,
+    closed: bool,
+) -> Vec<(f64, f64)>
+where
+    A: Fn(isize) -> f64,
+{
+    let mut out = Vec::new();
     for j in 0..=m as isize {
         if !closed && j == m as isize {
             break;
@@ -402,7 +453,7 @@ fn angular_features(
         let width = (2.0 * hm.abs().max(energy_scale) / curv.abs()).sqrt();
         out.push((x, width.min(span)));
     }
-    Ok(out)
+    out
 }
 
 /// Panel breakpoints in angle over [0, span], graded around the features (and their images
@@ -543,62 +594,5 @@ where
 }
 
 #[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::config::ConfigSource;
-    use crate::kernels::susceptibility::pair_kernel;
-
-    /// The graded angular rule (used by the susceptibility where the Fermi surfaces cross at
-    /// low T) and the trapezoid-then-adaptive rule integrate the same chi to their targets:
-    /// at T = 5e-3 Tc0 and q beyond the crossing, relative 1e-9 at rtol 1e-10, with the
-    /// graded rule using fewer rays.
-    #[test]
-    fn graded_angles_agree_with_the_trapezoid_rule() {
-        let text = r#"
-[[pocket]]
-name = "e"
-kind = "electron"
-center = [0.0, 0.0]
-mass = 0.2
-offset = -100.0
-
-[[pocket]]
-name = "h"
-kind = "hole"
-center = [0.0, 0.0]
-mass = 0.2
-offset = 100.5
-
-[[channel]]
-pockets = ["e", "h"]
-lambda = 0.25
-cutoff = 5.0
-"#;
-        let m = ConfigSource::from_text("test", text)
-            .unwrap()
-            .build(None)
-            .unwrap();
-        let shell = Shell::for_channel(&m, &m.channels()[0], [0.0058, 0.0]).unwrap();
-        let t = 5.2e-4;
-        let acc = Accuracy {
-            rtol: 1e-10,
-            ..Accuracy::default()
-        };
-        let f = |_: [f64; 2], p: &PairPoint| p.w * pair_kernel(p.xi(), p.h(), t);
-        let plain = shell_integral(&shell, t, &[], &acc, f).unwrap();
-        let graded = shell_integral_graded(&shell, t, &[], &acc, f).unwrap();
-        assert!(
-            (graded.value / plain.value - 1.0).abs() < 1e-9,
-            "{} vs {}",
-            graded.value,
-            plain.value
-        );
-        assert!(graded.error < 1e-9 * graded.value);
-        assert!(
-            graded.rays < plain.rays,
-            "{} vs {}",
-            graded.rays,
-            plain.rays
-        );
-    }
-}
+#[path = "integrate_tests.rs"]
+mod tests;

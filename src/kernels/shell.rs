@@ -100,6 +100,10 @@ impl<'m> Shell<'m> {
         )
     }
 
+    /// The shell of the pair (a at k + q, b at k) with form factor `form` and half-width `cutoff`
+    /// (meV) at wavevector q (1/nm): its polar centre (the minimum of xi, or the lower Dirac
+    /// point), the level of xi there and the angular symmetry. Errors when the shell is empty or
+    /// reaches a Dirac point.
     pub fn new(
         a: &'m Pocket,
         b: &'m Pocket,
@@ -128,47 +132,11 @@ impl<'m> Shell<'m> {
             symmetry: AngularSymmetry::None,
             isotropic: false,
         };
-        if parabolic {
-            // xi = [(k+q).A(k+q) + k.B k + E0a - E0b]/2: minimum at k = -(A+B)^{-1} A q.
-            let ta = quadratic_tensor(a);
-            let tb = quadratic_tensor(b);
-            let s = [
-                [ta[0][0] + tb[0][0], ta[0][1] + tb[0][1]],
-                [ta[1][0] + tb[1][0], ta[1][1] + tb[1][1]],
-            ];
-            let aq = [
-                ta[0][0] * q[0] + ta[0][1] * q[1],
-                ta[1][0] * q[0] + ta[1][1] * q[1],
-            ];
-            let det = s[0][0] * s[1][1] - s[0][1] * s[1][0];
-            shell.centre = [
-                -(s[1][1] * aq[0] - s[0][1] * aq[1]) / det,
-                -(-s[1][0] * aq[0] + s[0][0] * aq[1]) / det,
-            ];
+        shell.centre = if parabolic {
+            parabolic_centre(a, b, q)
         } else {
-            // The Dirac points must lie below the shell; the lower one is a valid centre.
-            let mut best: Option<([f64; 2], f64)> = None;
-            let mut candidates = Vec::new();
-            if a.is_dirac() {
-                candidates.push([-q[0], -q[1]]);
-            }
-            if b.is_dirac() {
-                candidates.push([0.0, 0.0]);
-            }
-            for c in candidates {
-                let x = shell.at(c).xi();
-                if x >= -cutoff {
-                    return Err(NumericalError::DiracPointInShell(format!(
-                        "the shell |xi| < {cutoff} meV reaches a Dirac point (xi = {x:.4} meV there at q = ({:.4}, {:.4})/nm): the cutoff must be below {:.4} meV",
-                        q[0], q[1], -x
-                    )));
-                }
-                if best.is_none_or(|(_, bx)| x < bx) {
-                    best = Some((c, x));
-                }
-            }
-            shell.centre = best.map(|b| b.0).unwrap_or([0.0, 0.0]);
-        }
+            shell.dirac_centre()?
+        };
         shell.xi_centre = shell.at(shell.centre).xi();
         shell.xi_lo = shell.xi_centre.max(-cutoff);
         if shell.xi_centre >= cutoff {
@@ -177,21 +145,53 @@ impl<'m> Shell<'m> {
                 q,
             });
         }
-        let circular = a.is_isotropic() && b.is_isotropic();
-        shell.isotropic = circular && form.is_rotation_invariant();
-        let q_zero = q == [0.0, 0.0];
-        shell.single_ray = shell.isotropic && q_zero;
-        shell.symmetry = if shell.single_ray {
+        shell.set_symmetry();
+        Ok(shell)
+    }
+
+    /// The lower Dirac point as the polar centre; an error when a Dirac point lies inside the
+    /// shell (the branch and the spinor are undefined there).
+    fn dirac_centre(&self) -> Result<[f64; 2], NumericalError> {
+        // The Dirac points must lie below the shell; the lower one is a valid centre.
+        let mut best: Option<([f64; 2], f64)> = None;
+        let mut candidates = Vec::new();
+        if self.a.is_dirac() {
+            candidates.push([-self.q[0], -self.q[1]]);
+        }
+        if self.b.is_dirac() {
+            candidates.push([0.0, 0.0]);
+        }
+        for c in candidates {
+            let x = self.at(c).xi();
+            if x >= -self.cutoff {
+                return Err(NumericalError::DiracPointInShell(format!(
+                    "the shell |xi| < {} meV reaches a Dirac point (xi = {x:.4} meV there at q = ({:.4}, {:.4})/nm): the cutoff must be below {:.4} meV",
+                    self.cutoff, self.q[0], self.q[1], -x
+                )));
+            }
+            if best.is_none_or(|(_, bx)| x < bx) {
+                best = Some((c, x));
+            }
+        }
+        Ok(best.map(|b| b.0).unwrap_or([0.0, 0.0]))
+    }
+
+    /// Whether chi depends on |q| only, and the angular symmetry the rays may use.
+    fn set_symmetry(&mut self) {
+        let circular = self.a.is_isotropic() && self.b.is_isotropic();
+        self.isotropic = circular && self.form.is_rotation_invariant();
+        let q_zero = self.q == [0.0, 0.0];
+        self.single_ray = self.isotropic && q_zero;
+        self.symmetry = if self.single_ray {
             AngularSymmetry::SingleRay
         } else if q_zero {
             // Every dispersion here is even in k and W is unchanged by k -> -k.
             AngularSymmetry::Inversion
-        } else if circular && q[1] == 0.0 && form.is_mirror_symmetric() {
+        } else if circular && self.q[1] == 0.0 && self.form.is_mirror_symmetric() {
             AngularSymmetry::Mirror
         } else {
             AngularSymmetry::None
         };
-        Ok(shell)
     }
 
     /// Energies and form factor at k (from b's centre).
@@ -475,6 +475,27 @@ fn quad_form(p: &Pocket, u: [f64; 2]) -> f64 {
 /// e^{i theta} helper for callers that build spinor directions.
 pub fn unit(theta: f64) -> Complex64 {
     Complex64::from_polar(1.0, theta)
+}
+
+/// The minimum of xi for two parabolic pockets: k = -(A+B)^{-1} A q with A, B their quadratic
+/// tensors.
+fn parabolic_centre(a: &Pocket, b: &Pocket, q: [f64; 2]) -> [f64; 2] {
+    // xi = [(k+q).A(k+q) + k.B k + E0a - E0b]/2: minimum at k = -(A+B)^{-1} A q.
+    let ta = quadratic_tensor(a);
+    let tb = quadratic_tensor(b);
+    let s = [
+        [ta[0][0] + tb[0][0], ta[0][1] + tb[0][1]],
+        [ta[1][0] + tb[1][0], ta[1][1] + tb[1][1]],
+    ];
+    let aq = [
+        ta[0][0] * q[0] + ta[0][1] * q[1],
+        ta[1][0] * q[0] + ta[1][1] * q[1],
+    ];
+    let det = s[0][0] * s[1][1] - s[0][1] * s[1][0];
+    [
+        -(s[1][1] * aq[0] - s[0][1] * aq[1]) / det,
+        -(-s[1][0] * aq[0] + s[0][0] * aq[1]) / det,
+    ]
 }
 
 #[cfg(test)]

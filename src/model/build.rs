@@ -1,7 +1,9 @@
 //! The validating constructor of the frozen [`Model`]: pocket and channel specs in, every derived
 //! quantity out (band form factor, spin channels, pair density of states nu, the mismatch on the
 //! nesting line and its range, g from lambda, warnings). Sits between the configuration layer
-//! (which parses TOML into specs) and the kernels (whose nesting-line integral it calls).
+//! (which parses TOML into specs) and the kernels (whose nesting-line integral it calls: the one
+//! place where the model layer reaches up into the kernels, so that derived quantities are
+//! computed once, at construction, and can never go stale).
 
 use super::spec::{check_positive, entry_error, key_error, PocketSpec};
 use super::{form_factor, spin_channels, Channel, CouplingInput, Lattice, Model, SpinMatrix};
