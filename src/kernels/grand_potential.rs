@@ -10,7 +10,7 @@
 
 use crate::error::NumericalError;
 use crate::kernels::integrate::{shell_integral, Accuracy, Estimate};
-use crate::kernels::shell::Shell;
+use crate::kernels::shell::{PairPoint, Shell};
 
 /// phi(E) = -T ln(1 + e^{-E/T}); at T = 0, min(E, 0). Written without overflow.
 #[inline]
@@ -59,6 +59,26 @@ fn gap_edges(h: f64, delta: f64, w: f64) -> Vec<(f64, f64)> {
     }
 }
 
+/// The shell integral of an ordered-state integrand at gap `delta` (meV): thermal features of
+/// width max(T-scale, Delta/4), with the gap edges of `mismatch` as extra features. The integrand
+/// gets Delta^2 and the pair point.
+fn ordered_integral<F>(
+    shell: &Shell,
+    mismatch: f64,
+    delta: f64,
+    t: f64,
+    acc: &Accuracy,
+    f: F,
+) -> Result<Estimate, NumericalError>
+where
+    F: Fn(f64, &PairPoint) -> f64,
+{
+    let w = width(t, shell.cutoff);
+    let extra = gap_edges(mismatch, delta, w);
+    let d2 = delta * delta;
+    shell_integral(shell, w.max(0.25 * delta), &extra, acc, |_, p| f(d2, p))
+}
+
 /// Omega(Delta) per spin channel, relative to the normal state, in meV/nm^2.
 pub fn grand_potential(
     shell: &Shell,
@@ -68,17 +88,14 @@ pub fn grand_potential(
     t: f64,
     acc: &Accuracy,
 ) -> Result<Estimate, NumericalError> {
-    let w = width(t, shell.cutoff);
-    let extra = gap_edges(mismatch, delta, w);
-    let d2 = delta * delta;
-    let integral = shell_integral(shell, w.max(0.25 * delta), &extra, acc, |_, p| {
+    let integral = ordered_integral(shell, mismatch, delta, t, acc, |d2, p| {
         let xi = p.xi();
         let h = p.h();
         let r = (xi * xi + d2 * p.w).sqrt();
         phi(h + r, t) + phi(h - r, t) - phi(p.eps_a, t) - phi(p.eps_b, t)
     })?;
     Ok(Estimate {
-        value: d2 / g + integral.value,
+        value: delta * delta / g + integral.value,
         error: integral.error,
         rays: integral.rays,
     })
@@ -94,10 +111,7 @@ pub fn gap_function(
     t: f64,
     acc: &Accuracy,
 ) -> Result<Estimate, NumericalError> {
-    let w = width(t, shell.cutoff);
-    let extra = gap_edges(mismatch, delta, w);
-    let d2 = delta * delta;
-    let integral = shell_integral(shell, w.max(0.25 * delta), &extra, acc, |_, p| {
+    let integral = ordered_integral(shell, mismatch, delta, t, acc, |d2, p| {
         if p.w == 0.0 {
             return 0.0;
         }
