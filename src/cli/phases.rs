@@ -142,7 +142,7 @@ fn t_max(
         ))),
         None => default_t_max(src, model, grid, channel, tc)?.ok_or_else(|| {
             Failure::Input(
-                "phases: no instability at the ends or the middle of the axis; give --tmax".into(),
+                "phases: no instability at the sampled points of the axis; give --tmax".into(),
             )
         }),
     }
