@@ -44,10 +44,14 @@ pub enum Command {
     /// Derived quantities of every pocket and channel: Fermi momenta and velocities, densities,
     /// densities of states, pair density of states nu, coupling g and lambda, mismatch h.
     Check(CheckArgs),
-    /// Uniform and modulated critical temperatures of every channel, with the wavevector q*.
+    /// Uniform and modulated critical temperatures of every channel, with the wavevector q*. The
+    /// coupling you give is held under --set: lambda given -> lambda held (g re-derived from the
+    /// pair density of states at the point); g given -> g held.
     Tc(TcArgs),
     /// Uniform and modulated Tc and |q*| over one or two swept parameters, in parallel; writes CSV,
-    /// JSON and figures.
+    /// JSON and figures, with every Lifshitz point of a 1D curve. The coupling you give is held at
+    /// every point (lambda given -> lambda held, g re-derived there; g given -> g held), so a
+    /// point equals `tc --set` at the same value.
     Scan(ScanArgs),
     /// Self-consistent ordered states at one temperature: every solution of the gap equation
     /// (uniform and plane-wave), Omega, stability, the chosen state, the quasiparticle gap.

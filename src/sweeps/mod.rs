@@ -3,12 +3,13 @@
 //! failed point is recorded with its reason and the sweep goes on.
 
 pub mod defaults;
+pub mod lifshitz;
 pub mod phase_map;
 pub mod tc_scan;
 
 use crate::config::{ConfigSource, Range};
 use crate::error::InputError;
-use crate::model::{Model, Param};
+use crate::model::{CouplingInput, Model, Param};
 use indicatif::{ProgressBar, ProgressStyle};
 use rayon::prelude::*;
 
@@ -66,8 +67,9 @@ impl Grid {
 }
 
 /// A grid resolved against its base model: the typed parameter of each axis, so that a point's
-/// model is the base model with those parameters set (no text, no TOML, no re-parsing), g pinned
-/// at the base model except in channels whose coupling the sweep itself varies.
+/// model is the base model with those parameters set (no text, no TOML, no re-parsing), each
+/// channel holding the coupling it was given (lambda or g), exactly as `--set` at that value
+/// does, except in channels whose coupling the sweep itself varies.
 #[derive(Debug, Clone)]
 pub struct Sweep<'a> {
     /// File name of the base configuration, for messages.
@@ -113,9 +115,24 @@ impl<'a> Sweep<'a> {
         self.model_with(&[(self.params[0], x)])
     }
 
+    /// The base model with `changes` applied after the held couplings: the coupling each
+    /// channel was given is held ([`crate::solvers::tc_channel::CouplingHeld`]), lambda given ->
+    /// lambda kept and g re-derived from the pair density of states at the point, g given -> g
+    /// kept; an axis that sets lambda or g itself overrides this.
     fn model_with(&self, changes: &[(Param, f64)]) -> Result<Model, InputError> {
+        let held: Vec<(Param, f64)> = self
+            .base
+            .channels()
+            .iter()
+            .enumerate()
+            .filter_map(|(channel, ch)| match ch.coupling_input() {
+                CouplingInput::Lambda(l) => Some((Param::Lambda { channel }, l)),
+                CouplingInput::G(_) => None,
+            })
+            .chain(changes.iter().copied())
+            .collect();
         self.base
-            .with(changes)
+            .with(&held)
             .map_err(|e| InputError::new(format!("{}: {e}", self.origin)))
     }
 }
