@@ -26,8 +26,8 @@ pub struct PhasesArgs {
     /// The parameter axis, PATH=FROM:TO:N.
     #[arg(long, value_name = "PATH=FROM:TO:N", required = true)]
     pub vary: String,
-    /// Highest temperature in K (default: 1.2 times the highest Tc along the axis at its ends and
-    /// middle).
+    /// Highest temperature in K (default: 1.2 times the highest Tc along the axis, sampled at up
+    /// to nine points and refined between them).
     #[arg(long, value_name = "K")]
     pub tmax: Option<f64>,
     /// Points of the temperature axis (from 0 to tmax).
