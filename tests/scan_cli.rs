@@ -24,11 +24,25 @@ fn nestor(args: &[&str]) -> String {
     String::from_utf8(out.stdout).unwrap()
 }
 
-/// A fresh output directory for one test.
-fn out_dir(name: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("nestor-scan-cli-{}-{name}", std::process::id()));
-    std::fs::create_dir_all(&d).unwrap();
-    d
+/// Runs `nestor scan CONFIG --vary VARY` into a fresh directory; returns its JSON and CSV.
+fn scan(config: &str, vary: &str, name: &str) -> (Value, String) {
+    let dir = std::env::temp_dir().join(format!("nestor-scan-cli-{}-{name}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    nestor(&[
+        "scan",
+        config,
+        "--vary",
+        vary,
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    let read = |f: &str| std::fs::read_to_string(dir.join(f)).unwrap();
+    let (json, csv) = (
+        serde_json::from_str(&read("scan.json")).unwrap(),
+        read("scan.csv"),
+    );
+    std::fs::remove_dir_all(&dir).ok();
+    (json, csv)
 }
 
 fn close(a: f64, b: f64) -> bool {
@@ -50,18 +64,7 @@ fn tc_set_and_scan_agree_at_the_same_point() {
         "--json",
     ]))
     .unwrap();
-    let dir = out_dir("agree");
-    nestor(&[
-        "scan",
-        "configs/demo_surface.toml",
-        "--vary",
-        "G.offset=186:187:2",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
-    let scan: Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("scan.json")).unwrap()).unwrap();
-    std::fs::remove_dir_all(&dir).ok();
+    let (scan, _) = scan("configs/demo_surface.toml", "G.offset=186:187:2", "agree");
     let point = &scan["points"][0];
     assert_eq!(point["values"][0].as_f64(), Some(186.0));
     let (a, b) = (
@@ -85,19 +88,11 @@ fn tc_set_and_scan_agree_at_the_same_point() {
 /// interpolated 0.7562 K.
 #[test]
 fn every_lifshitz_point_of_a_curve_is_found() {
-    let dir = out_dir("lifshitz");
-    nestor(&[
-        "scan",
+    let (scan, csv) = scan(
         "configs/reference/nested_parabolic.toml",
-        "--vary",
         "h.offset=99.6:100.45:18",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
-    let scan: Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("scan.json")).unwrap()).unwrap();
-    let csv = std::fs::read_to_string(dir.join("scan.csv")).unwrap();
-    std::fs::remove_dir_all(&dir).ok();
+        "lifshitz",
+    );
     let l = &scan["lifshitz"][0];
     let pts = l["points"].as_array().unwrap();
     assert_eq!(pts.len(), 2, "{l}");
