@@ -1,5 +1,6 @@
 //! Sweeps: thread-count independence, failed points recorded without stopping the sweep, the
-//! Lifshitz point on a curve, and q* -> 0 continuously there.
+//! Lifshitz point on a curve, q* -> 0 continuously there, and the default top temperature of a
+//! phase diagram.
 
 mod common;
 
@@ -7,9 +8,10 @@ use common::nested_pair;
 use nestor::config::parse_range;
 use nestor::config::ConfigSource;
 use nestor::model::Model;
-use nestor::reports::scan::lifshitz_on_curve;
 use nestor::solvers::tc_channel::Method;
 use nestor::solvers::TcSolver;
+use nestor::sweeps::defaults::default_t_max;
+use nestor::sweeps::lifshitz::scan_lifshitz;
 use nestor::sweeps::tc_scan::{scan_tc, ScanPoint};
 use nestor::sweeps::Grid;
 
@@ -85,7 +87,9 @@ fn q_star_leaves_zero_continuously_at_the_lifshitz_point() {
         .iter()
         .map(|p| p.result.as_ref().unwrap()[0].q_star())
         .collect();
-    let (x, _) = lifshitz_on_curve(&pts, 0).expect("a Lifshitz point in range");
+    let found = scan_lifshitz(&src, &m, &grid, &pts, &TcSolver::default(), None).unwrap();
+    assert_eq!(found[0].points.len(), 1, "{:?}", found[0]);
+    let x = found[0].points[0].value;
     let h_l = (x - 100.0) / 2.0 / tc0;
     assert!((h_l - 1.0728).abs() < 0.011, "Lifshitz h = {h_l} Tc0");
     let first = q.iter().position(|&v| v > 0.0).unwrap();
@@ -102,4 +106,25 @@ fn q_star_leaves_zero_continuously_at_the_lifshitz_point() {
         "q*^2 extrapolates to zero at {x0}, first modulated point {x1}"
     );
     assert!(q1 < 0.6 * q[q.len() - 1], "{q:?}");
+}
+
+/// The default top of a phase diagram's temperature axis covers a Tc maximum between the grid
+/// points: along h.offset = 99.5 .. 100.5 in four points the maximum (perfect nesting, 100) lies
+/// between the second and third. The old default sampled only the first, middle and last points
+/// and gave 1.2 Tc(100.167), about 0.72 of 1.2 Tc(100).
+#[test]
+fn default_t_max_covers_a_maximum_between_grid_points() {
+    let (src, m) = nested_pair(0.25, 5.0, 100.0, 0.0);
+    let grid = Grid::new(vec![parse_range("h.offset=99.5:100.5:4").unwrap()]).unwrap();
+    let tc = TcSolver::default();
+    let t_max = default_t_max(&src, &m, &grid, 0, &tc)
+        .unwrap()
+        .expect("unstable along the axis");
+    let peak = tc.uniform(&m, &m.channels()[0]).unwrap().tc;
+    assert!(
+        t_max >= 1.2 * peak * (1.0 - 1e-7),
+        "default {t_max} meV, 1.2 Tc at perfect nesting {}",
+        1.2 * peak
+    );
+    assert!(t_max <= 1.2 * peak * (1.0 + 1e-7), "{t_max}");
 }

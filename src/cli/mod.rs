@@ -45,9 +45,11 @@ pub enum Command {
     /// densities of states, pair density of states nu, coupling g and lambda, mismatch h.
     Check(CheckArgs),
     /// Uniform and modulated critical temperatures of every channel, with the wavevector q*.
+    /// lambda is converted to g at the configuration as given (after --set).
     Tc(TcArgs),
     /// Uniform and modulated Tc and |q*| over one or two swept parameters, in parallel; writes CSV,
-    /// JSON and figures.
+    /// JSON and figures, with every Lifshitz point of a 1D curve. g is held at its value in the
+    /// base configuration (after --set) at every point; the output says so.
     Scan(ScanArgs),
     /// Self-consistent ordered states at one temperature: every solution of the gap equation
     /// (uniform and plane-wave), Omega, stability, the chosen state, the quasiparticle gap.

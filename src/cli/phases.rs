@@ -26,8 +26,8 @@ pub struct PhasesArgs {
     /// The parameter axis, PATH=FROM:TO:N.
     #[arg(long, value_name = "PATH=FROM:TO:N", required = true)]
     pub vary: String,
-    /// Highest temperature in K (default: 1.2 times the highest Tc along the axis at its ends and
-    /// middle).
+    /// Highest temperature in K (default: 1.2 times the highest Tc along the axis, sampled at up
+    /// to nine points and refined between them).
     #[arg(long, value_name = "K")]
     pub tmax: Option<f64>,
     /// Points of the temperature axis (from 0 to tmax).
@@ -142,7 +142,7 @@ fn t_max(
         ))),
         None => default_t_max(src, model, grid, channel, tc)?.ok_or_else(|| {
             Failure::Input(
-                "phases: no instability at the ends or the middle of the axis; give --tmax".into(),
+                "phases: no instability at the sampled points of the axis; give --tmax".into(),
             )
         }),
     }

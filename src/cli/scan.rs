@@ -8,7 +8,7 @@ use nestor::model::Model;
 use nestor::reports::scan as scan_report;
 use nestor::solvers::tc_channel::Method;
 use nestor::solvers::TcSolver;
-use nestor::sweeps::{tc_scan::scan_tc, Grid};
+use nestor::sweeps::{lifshitz::scan_lifshitz, tc_scan::scan_tc, Grid};
 use std::io::IsTerminal;
 use std::path::{Path, PathBuf};
 
@@ -86,21 +86,22 @@ impl ScanJob<'_> {
             self.threads,
             progress,
         )?;
-        let written = scan_report::write_scan(
-            src,
-            model,
-            self.grid,
-            &points,
-            self.method,
-            self.out,
-            self.stem,
-        )
-        .map_err(|e| Failure::Input(e.to_string()))?;
+        let lifshitz = scan_lifshitz(src, model, self.grid, &points, self.solver, self.threads)?;
+        let scan = scan_report::ScanResult {
+            points: &points,
+            method: self.method,
+            lifshitz: &lifshitz,
+        };
+        let written = scan_report::write_scan(src, model, self.grid, &scan, self.out, self.stem)
+            .map_err(|e| Failure::Input(e.to_string()))?;
         for w in &written {
             println!("wrote {}", w.display());
         }
         let failed = points.iter().filter(|p| p.result.is_err()).count();
-        print!("{}", scan_report::summary(model, self.grid, &points));
+        print!(
+            "{}",
+            scan_report::summary(model, self.grid, &points, &lifshitz)
+        );
         if failed > 0 {
             return Ok(Outcome::PartlyFailed(format!(
                 "{failed} of {} points failed (their reasons are in the CSV and JSON)",

@@ -32,6 +32,9 @@ pub fn run(a: &TcArgs) -> Result<Outcome, Failure> {
         print_json(&tables::tc_json(&src, &model, &results));
     } else {
         print!("{}", tables::tc_text(&model, &results));
+        for r in &results {
+            println!("channel {}: {}", r.label, r.coupling_held);
+        }
     }
     Ok(Outcome::Done)
 }

@@ -272,6 +272,7 @@ fn derive_channel(
         a,
         b,
         g,
+        g_pinned: pinned.is_some(),
         coupling_input: spec.coupling,
         cutoff,
         spin_matrix: spec.spin_matrix,

@@ -174,6 +174,7 @@ pub struct Channel {
     a: usize,
     b: usize,
     g: f64,
+    g_pinned: bool,
     coupling_input: CouplingInput,
     cutoff: f64,
     spin_matrix: SpinMatrix,
@@ -205,6 +206,11 @@ impl Channel {
     /// Contact coupling g > 0 in meV nm^2 (attractive), per spin channel.
     pub fn g(&self) -> f64 {
         self.g
+    }
+    /// Whether g was held at a base model's value (a sweep or search point) rather than taken
+    /// from the coupling given for this model.
+    pub fn g_pinned(&self) -> bool {
+        self.g_pinned
     }
     /// How the coupling was given.
     pub fn coupling_input(&self) -> CouplingInput {

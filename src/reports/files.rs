@@ -16,6 +16,23 @@ where
     R::Item: IntoIterator,
     <R::Item as IntoIterator>::Item: AsRef<[u8]>,
 {
+    write_csv_commented(path, &[], head, rows)
+}
+
+/// As [`write_csv`], with `comments` written first, one line each after `# `.
+pub fn write_csv_commented<H, R>(
+    path: PathBuf,
+    comments: &[String],
+    head: H,
+    rows: R,
+) -> Result<PathBuf, ReportError>
+where
+    H: IntoIterator,
+    H::Item: AsRef<[u8]>,
+    R: IntoIterator,
+    R::Item: IntoIterator,
+    <R::Item as IntoIterator>::Item: AsRef<[u8]>,
+{
     let csv_error = |source: csv::Error| ReportError::Csv {
         path: path.clone(),
         source,
@@ -25,9 +42,14 @@ where
     for r in rows {
         w.write_record(r).map_err(csv_error)?;
     }
-    let bytes = w
+    let table = w
         .into_inner()
         .map_err(|e| csv_error(csv::Error::from(e.into_error())))?;
+    let mut bytes: Vec<u8> = comments
+        .iter()
+        .flat_map(|c| format!("# {c}\n").into_bytes())
+        .collect();
+    bytes.extend(table);
     write_file(path, &bytes)
 }
 

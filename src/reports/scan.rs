@@ -4,11 +4,12 @@
 
 use super::error::ReportError;
 use super::figures::{write_line_plot, write_map_plot, Dash, LinePlot, MapPlot, Marker, Series};
-use super::files::{figure_files, write_csv, write_json};
+use super::files::{figure_files, write_csv_commented, write_json};
 use super::tables::{channel_tc_json, header, scan_columns, scan_rows, text_table};
 use crate::config::ConfigSource;
 use crate::model::Model;
-use crate::solvers::tc_channel::Method;
+use crate::solvers::tc_channel::{CouplingHeld, Method};
+use crate::sweeps::lifshitz::LifshitzSearch;
 use crate::sweeps::tc_scan::ScanPoint;
 use crate::sweeps::Grid;
 use crate::units::mev_to_kelvin;
@@ -40,26 +41,36 @@ pub(crate) fn axis_label(grid: &Grid, i: usize) -> String {
     }
 }
 
-/// The Lifshitz point of a 1D curve of one channel: where q* first becomes non-zero (between the
-/// last uniform and the first modulated point; the midpoint is reported).
-pub fn lifshitz_on_curve(points: &[ScanPoint], channel: usize) -> Option<(f64, f64)> {
-    let state = |p: &ScanPoint| {
-        p.result
-            .as_ref()
-            .ok()
-            .and_then(|r| r.get(channel))
-            .map(|c| (c.modulated_wins(), c.modulated.tc.tc, c.uniform.tc))
-    };
-    for w in points.windows(2) {
-        if let (Some(a), Some(b)) = (state(&w[0]), state(&w[1])) {
-            if a.0 != b.0 && a.2 > 0.0 {
-                let x = 0.5 * (w[0].values[0] + w[1].values[0]);
-                let t = 0.5 * (if a.0 { a.1 } else { a.2 } + if b.0 { b.1 } else { b.2 });
-                return Some((x, mev_to_kelvin(t)));
-            }
+/// The JSON of a channel's Lifshitz points: `{"value", "temperature_K"}` each.
+fn lifshitz_points_json(found: &LifshitzSearch) -> Vec<Value> {
+    found
+        .points
+        .iter()
+        .map(|p| json!({"value": p.value, "temperature_K": mev_to_kelvin(p.t)}))
+        .collect()
+}
+
+/// The CSV header comments of a 1D scan: every Lifshitz point of every channel (or none).
+fn lifshitz_comments(m: &Model, grid: &Grid, lifshitz: &[LifshitzSearch]) -> Vec<String> {
+    let path = grid.axes[0].path();
+    let mut out = Vec::new();
+    for (ch, found) in m.channels().iter().zip(lifshitz) {
+        let label = ch.label();
+        if found.points.is_empty() {
+            out.push(format!("channel {label}: no Lifshitz point in range"));
+        }
+        for p in &found.points {
+            out.push(format!(
+                "channel {label}: Lifshitz point at {path} = {}, T = {} K",
+                p.value,
+                mev_to_kelvin(p.t)
+            ));
+        }
+        for f in &found.failures {
+            out.push(format!("channel {label}: {f}"));
         }
     }
-    None
+    out
 }
 
 /// Writes `<stem>.csv`, `<stem>.json` and the figures into `out`; returns the paths written.
@@ -67,25 +78,35 @@ pub fn write_scan(
     src: &ConfigSource,
     m: &Model,
     grid: &Grid,
-    points: &[ScanPoint],
-    method: Method,
+    scan: &ScanResult,
     out: &Path,
     stem: &str,
 ) -> Result<Vec<PathBuf>, ReportError> {
+    let (points, method) = (scan.points, scan.method);
     let labels: Vec<String> = m.channels().iter().map(|c| c.label().to_string()).collect();
     let csv_path = out.join(format!("{stem}.csv"));
-    let mut written = vec![write_csv(
+    let comments = if grid.axes.len() == 1 {
+        lifshitz_comments(m, grid, scan.lifshitz)
+    } else {
+        vec![]
+    };
+    let mut written = vec![write_csv_commented(
         csv_path,
+        &comments,
         scan_columns(grid),
         scan_rows(points, &labels),
     )?];
-    let v = scan_json(src, m, grid, points, method);
+    let v = scan_json(src, m, grid, scan);
     written.push(write_json(out.join(format!("{stem}.json")), &v)?);
     // Figures, one per channel.
     for (c, label) in labels.iter().enumerate() {
         let fig_stem = out.join(format!("{stem}_tc_{label}"));
         if grid.axes.len() == 1 {
-            write_line_plot(&tc_curve_plot(grid, points, c, label, method), &fig_stem)?;
+            let found = scan.lifshitz.get(c);
+            write_line_plot(
+                &tc_curve_plot(grid, points, c, label, method, found),
+                &fig_stem,
+            )?;
         } else {
             write_map_plot(&tc_map_plot(grid, points, c, label), &fig_stem)?;
         }
@@ -94,15 +115,23 @@ pub fn write_scan(
     Ok(written)
 }
 
+/// A scan's results as the reports take them: the points, how Tc was computed, and on a 1D scan
+/// the Lifshitz points of each channel (in channel order; empty on a 2D scan).
+#[derive(Debug, Clone, Copy)]
+pub struct ScanResult<'a> {
+    /// Every grid point, in grid order.
+    pub points: &'a [ScanPoint],
+    /// Exact integral or weak-coupling closed form.
+    pub method: Method,
+    /// Per channel, the Lifshitz points of the curve.
+    pub lifshitz: &'a [LifshitzSearch],
+}
+
 /// The JSON report of a scan: the swept axes, every point's channels, and on a 1D scan the
-/// Lifshitz point of each channel.
-fn scan_json(
-    src: &ConfigSource,
-    m: &Model,
-    grid: &Grid,
-    points: &[ScanPoint],
-    method: Method,
-) -> Value {
+/// Lifshitz points of each channel (`lifshitz[c].points`, the first also as `value` and
+/// `temperature_K`, null when there is none).
+fn scan_json(src: &ConfigSource, m: &Model, grid: &Grid, scan: &ScanResult) -> Value {
+    let (points, method) = (scan.points, scan.method);
     let mut v = header(src, "scan");
     v["method"] = json!(method);
     v["vary"] = Value::Array(
@@ -111,7 +140,7 @@ fn scan_json(
             .map(|a| json!({"path": a.path(), "from": a.from, "to": a.to, "n": a.n, "unit": key_unit(&a.key)}))
             .collect(),
     );
-    v["note"] = json!("g is fixed at the base configuration (lambda converted there); q* is known to fewer digits than Tc");
+    v["note"] = json!("the coupling given is held at every point (lambda given: lambda held, g re-derived there; g given: g held), as coupling_held per channel says; q* is known to fewer digits than Tc");
     v["points"] = Value::Array(
         points
             .iter()
@@ -130,9 +159,16 @@ fn scan_json(
             m.channels()
                 .iter()
                 .enumerate()
-                .map(|(c, ch)| match lifshitz_on_curve(points, c) {
-                    Some((x, t)) => json!({"channel": ch.label(), "value": x, "temperature_K": t}),
-                    None => json!({"channel": ch.label(), "value": null, "temperature_K": null}),
+                .map(|(c, ch)| {
+                    let found = scan.lifshitz.get(c).cloned().unwrap_or_default();
+                    let first = found.points.first();
+                    json!({
+                        "channel": ch.label(),
+                        "value": first.map(|p| p.value),
+                        "temperature_K": first.map(|p| mev_to_kelvin(p.t)),
+                        "points": lifshitz_points_json(&found),
+                        "failures": found.failures,
+                    })
                 })
                 .collect(),
         );
@@ -178,16 +214,25 @@ fn tc_curve_plot(
     c: usize,
     label: &str,
     method: Method,
+    lifshitz: Option<&LifshitzSearch>,
 ) -> LinePlot {
     let (uni, md) = tc_curves(points, c);
-    let markers = lifshitz_on_curve(points, c)
-        .map(|(x, t)| Marker {
-            label: "Lifshitz point (q* leaves 0)".into(),
-            x,
-            y: t,
+    let markers = lifshitz
+        .map(|f| f.points.as_slice())
+        .unwrap_or_default()
+        .iter()
+        .enumerate()
+        .map(|(k, p)| Marker {
+            // One legend entry for all the points.
+            label: if k == 0 {
+                "Lifshitz point (q* leaves 0)".into()
+            } else {
+                String::new()
+            },
+            x: p.value,
+            y: mev_to_kelvin(p.t),
             color: 3,
         })
-        .into_iter()
         .collect();
     LinePlot {
         title: format!("Critical temperature, channel {label}"),
@@ -209,11 +254,17 @@ fn tc_curve_plot(
         ],
         markers,
         bands: vec![],
-        notes: vec![
-            format!("method: {method:?}"),
-            "g fixed at the base configuration".into(),
-        ],
+        notes: vec![format!("method: {method:?}"), held_note(points, c)],
     }
+}
+
+/// The figure note naming the coupling channel `c` holds along the curve.
+fn held_note(points: &[ScanPoint], c: usize) -> String {
+    points
+        .iter()
+        .find_map(|p| p.result.as_ref().ok().and_then(|r| r.get(c)))
+        .map(|r| r.coupling_held.to_string())
+        .unwrap_or_default()
 }
 
 /// The figure of a 2D scan for channel `c`: Tc (max over q) as a colour map, the cells where the
@@ -241,8 +292,32 @@ fn tc_map_plot(grid: &Grid, points: &[ScanPoint], c: usize, label: &str) -> MapP
     }
 }
 
+/// The Lifshitz points of a channel as text ("PATH = x, T = t K; ..." or "none in range").
+fn lifshitz_text(grid: &Grid, found: Option<&LifshitzSearch>) -> String {
+    let path = grid.axes[0].path();
+    let points: Vec<String> = found
+        .map(|f| f.points.as_slice())
+        .unwrap_or_default()
+        .iter()
+        .map(|p| format!("{path} = {:.4}, T = {:.4} K", p.value, mev_to_kelvin(p.t)))
+        .collect();
+    match (
+        points.is_empty(),
+        found.is_some_and(|f| !f.failures.is_empty()),
+    ) {
+        (true, true) => "search failed (see the JSON)".into(),
+        (true, false) => "none in range".into(),
+        _ => points.join("; "),
+    }
+}
+
 /// A short text summary of a scan for the terminal.
-pub fn summary(m: &Model, grid: &Grid, points: &[ScanPoint]) -> String {
+pub fn summary(
+    m: &Model,
+    grid: &Grid,
+    points: &[ScanPoint],
+    lifshitz: &[LifshitzSearch],
+) -> String {
     let failed = points.iter().filter(|p| p.result.is_err()).count();
     let mut s = format!("{} points, {} failed\n", points.len(), failed);
     if grid.axes.len() == 1 {
@@ -266,12 +341,17 @@ pub fn summary(m: &Model, grid: &Grid, points: &[ScanPoint]) -> String {
                     )
                 })
                 .unwrap_or("-".into()),
-                lifshitz_on_curve(points, c)
-                    .map(|(x, t)| format!("{} = {x:.4}, T = {t:.4} K", grid.axes[0].path()))
-                    .unwrap_or("none in range".into()),
+                lifshitz_text(grid, lifshitz.get(c)),
             ]];
             s += &text_table(&["channel", "highest Tc", "Lifshitz point"], &rows);
         }
+    }
+    for ch in m.channels() {
+        s += &format!(
+            "channel {}: {} at every point (unless the sweep sets it)\n",
+            ch.label(),
+            CouplingHeld::of(ch)
+        );
     }
     for p in points.iter().filter(|p| p.result.is_err()).take(5) {
         s += &format!(

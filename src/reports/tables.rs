@@ -277,10 +277,10 @@ pub fn channel_tc_json(m: &Model, c: &Channel, r: &ChannelTc) -> Value {
         "label": c.label(),
         "pockets": [m.pockets()[c.a()].name(), m.pockets()[c.b()].name()],
         "method": r.method,
-        "nu_per_meV_nm2": c.nu(),
-        "g_meV_nm2": c.g(),
-        "lambda": c.lambda(),
-        "mismatch_meV": c.mismatch(),
+        "nu_per_meV_nm2": r.nu,
+        "g_meV_nm2": r.g,
+        "lambda": r.lambda,
+        "mismatch_meV": r.mismatch,
         "tc_nested_K": r.tc_nested.map(kelvin),
         "tc_uniform_K": opt_kelvin(&r.uniform),
         "tc_uniform_error_K": kelvin(r.uniform.error),
@@ -295,6 +295,7 @@ pub fn channel_tc_json(m: &Model, c: &Channel, r: &ChannelTc) -> Value {
         "uniform_reason": r.uniform.reason,
         "modulated_reason": r.modulated.tc.reason,
         "notes": r.notes,
+        "coupling_held": r.coupling_held,
     })
 }
 

@@ -5,7 +5,7 @@ use crate::error::NestorError;
 use crate::kernels::equation::EquationError;
 use crate::kernels::weak;
 use crate::kernels::Shell;
-use crate::model::{Channel, Model};
+use crate::model::{Channel, CouplingInput, Model};
 use crate::solvers::tc::weak as weak_tc;
 use crate::solvers::tc::{nested_tc, ModulatedTc, TcReport, TcSolver, TcStatus, TcStop};
 
@@ -20,6 +20,50 @@ pub enum Method {
     Weak,
 }
 
+/// Which coupling a channel's numbers were computed with. The rule: the coupling is fixed once,
+/// at the configuration as given (the file after `--set`): lambda given -> g = lambda / nu_ab
+/// there; g given -> that g. Every point of a sweep, a phase diagram or a line search holds that
+/// g (a sweep changes the physics, not the coupling), so lambda = g nu_ab follows the pair
+/// density of states along the sweep. `tc --set PATH=X` converts lambda at X; a scan through X
+/// holds the g of its base configuration: the two agree where nu_ab is the same, and both say
+/// which coupling they held.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct CouplingHeld {
+    /// `"lambda"` (dimensionless) or `"g"` (meV nm^2).
+    pub key: &'static str,
+    /// Its value.
+    pub value: f64,
+}
+
+impl CouplingHeld {
+    /// The coupling channel `ch` holds.
+    pub fn of(ch: &Channel) -> Self {
+        if ch.g_pinned() {
+            return CouplingHeld {
+                key: "g",
+                value: ch.g(),
+            };
+        }
+        match ch.coupling_input() {
+            CouplingInput::Lambda(value) => CouplingHeld {
+                key: "lambda",
+                value,
+            },
+            CouplingInput::G(value) => CouplingHeld { key: "g", value },
+        }
+    }
+}
+
+impl std::fmt::Display for CouplingHeld {
+    /// `lambda = 0.25 given (g converted here)` or `g = 500 meV nm^2 held`.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self.key {
+            "lambda" => write!(f, "lambda = {} given (g converted here)", self.value),
+            _ => write!(f, "g = {} meV nm^2 held", self.value),
+        }
+    }
+}
+
 /// Uniform and modulated instability of one channel.
 #[derive(Debug, Clone)]
 pub struct ChannelTc {
@@ -29,6 +73,14 @@ pub struct ChannelTc {
     pub method: Method,
     /// The channel's mismatch h at this point, meV.
     pub mismatch: f64,
+    /// The coupling held at this point (the one the channel was given).
+    pub coupling_held: CouplingHeld,
+    /// The pair density of states nu_ab at this point, 1/(meV nm^2) per spin channel.
+    pub nu: f64,
+    /// The coupling g at this point, meV nm^2.
+    pub g: f64,
+    /// The dimensionless coupling lambda = g nu_ab at this point.
+    pub lambda: f64,
     /// Nested Tc 1.134 Lambda exp(-1/lambda), meV (the weak-coupling scale Tc0).
     pub tc_nested: Option<f64>,
     /// The uniform (q = 0) instability.
@@ -67,6 +119,10 @@ pub fn channel_tc(
                 label: ch.label().to_string(),
                 method,
                 mismatch: ch.mismatch(),
+                coupling_held: CouplingHeld::of(ch),
+                nu: ch.nu(),
+                g: ch.g(),
+                lambda: ch.lambda(),
                 tc_nested: nested_tc(ch),
                 uniform,
                 modulated,
@@ -143,6 +199,10 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
             label: ch.label().to_string(),
             method: Method::Weak,
             mismatch: ch.mismatch(),
+            coupling_held: CouplingHeld::of(ch),
+            nu: ch.nu(),
+            g: ch.g(),
+            lambda: ch.lambda(),
             tc_nested: None,
             uniform: none.clone(),
             modulated: ModulatedTc {
@@ -178,6 +238,10 @@ fn weak_channel_tc(model: &Model, ch: &Channel) -> Result<ChannelTc, NestorError
         label: ch.label().to_string(),
         method: Method::Weak,
         mismatch: ch.mismatch(),
+        coupling_held: CouplingHeld::of(ch),
+        nu: ch.nu(),
+        g: ch.g(),
+        lambda: ch.lambda(),
         tc_nested: Some(t0),
         uniform,
         modulated,

@@ -3,6 +3,7 @@
 //! failed point is recorded with its reason and the sweep goes on.
 
 pub mod defaults;
+pub mod lifshitz;
 pub mod phase_map;
 pub mod tc_scan;
 
@@ -66,7 +67,7 @@ impl Grid {
 }
 
 /// A grid resolved against its base model: the typed parameter of each axis, so that a point's
-/// model is the base model with those parameters set (no text, no TOML, no re-parsing), g pinned
+/// model is the base model with those parameters set (no text, no TOML, no re-parsing), g held
 /// at the base model except in channels whose coupling the sweep itself varies.
 #[derive(Debug, Clone)]
 pub struct Sweep<'a> {
@@ -113,6 +114,9 @@ impl<'a> Sweep<'a> {
         self.model_with(&[(self.params[0], x)])
     }
 
+    /// The base model with `changes` applied, g held at the base model in every channel whose
+    /// coupling the changes do not set (the coupling is converted once, at the configuration as
+    /// given, and a sweep changes the physics, not the coupling).
     fn model_with(&self, changes: &[(Param, f64)]) -> Result<Model, InputError> {
         self.base
             .with(changes)

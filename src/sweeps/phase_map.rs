@@ -4,6 +4,7 @@
 //! minimum disappears, and the tricritical (beta = 0) and Lifshitz (q-curvature = 0) points on
 //! the uniform instability line, each refined in the parameter by Brent's method.
 
+use super::lifshitz::lowest_curvature;
 use super::{par_map, Grid, Sweep};
 use crate::config::ConfigSource;
 use crate::error::{InputError, NestorError, NumericalError};
@@ -178,28 +179,6 @@ pub struct PhaseOptions {
     pub fixed_density: bool,
     pub threads: Option<usize>,
     pub progress: bool,
-}
-
-fn lowest_curvature(
-    tc: &TcSolver,
-    m: &Model,
-    ch: &crate::model::Channel,
-    t: f64,
-) -> Result<f64, NumericalError> {
-    let iso = Shell::for_channel(m, ch, [0.0, 0.0])?.isotropic;
-    let (cx, _) = tc.chi_q_curvature(m, ch, t, [1.0, 0.0])?;
-    if iso {
-        return Ok(-cx);
-    }
-    let (cy, _) = tc.chi_q_curvature(m, ch, t, [0.0, 1.0])?;
-    let r = std::f64::consts::FRAC_1_SQRT_2;
-    let (cd, _) = tc.chi_q_curvature(m, ch, t, [r, r])?;
-    // Hessian of alpha = 1/g - chi: -[[cx, cxy], [cxy, cy]] with cd = (cx + cy)/2 + cxy.
-    let cxy = cd - 0.5 * (cx + cy);
-    let (a, b, c) = (-cx, -cxy, -cy);
-    let mean = 0.5 * (a + c);
-    let disc = (0.25 * (a - c) * (a - c) + b * b).sqrt();
-    Ok(mean - disc)
 }
 
 /// All states at one cell, the plane wave searched near the instability's q*.
