@@ -16,6 +16,17 @@ use crate::model::{Channel, Model};
 use crate::solvers::optimize::brent_max;
 use crate::solvers::roots::brent_root;
 
+/// `Display` of label enums: writes `self.label()`.
+macro_rules! display_by_label {
+    ($($t:ty),*) => {$(
+        impl std::fmt::Display for $t {
+            fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str(self.label())
+            }
+        }
+    )*};
+}
+
 mod coupled;
 mod instability;
 pub use coupled::{coupled_uniform, CoupledChannels, PairOutcome, RelativePhase};
@@ -68,12 +79,6 @@ impl StateKind {
     }
 }
 
-impl std::fmt::Display for StateKind {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(self.label())
-    }
-}
-
 /// Stability of a solution among all those at the same temperature.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -94,12 +99,6 @@ impl Stability {
             Stability::Metastable => "metastable",
             Stability::Unstable => "unstable",
         }
-    }
-}
-
-impl std::fmt::Display for Stability {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(self.label())
     }
 }
 
@@ -503,3 +502,5 @@ pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
     let t_top = 0.5 * ch.cutoff();
     crate::solvers::tc::q_search_scale(model, ch, t.max(t_floor).min(t_top.max(t_floor)))
 }
+
+display_by_label!(StateKind, Stability);

@@ -44,12 +44,6 @@ impl PairOutcome {
     }
 }
 
-impl std::fmt::Display for PairOutcome {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(self.label())
-    }
-}
-
 /// The relative phase of two coupled order parameters (serialised as its explanation, see
 /// [`label`](Self::label)).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -68,12 +62,6 @@ impl RelativePhase {
             RelativePhase::Free => "free (a Goldstone-like phase: the gauge of the unshared pockets absorbs it)",
             RelativePhase::FreeUmklappWouldPin => "free in this model (the gauge of the unshared pockets absorbs it); 2P is a reciprocal vector for both channels, so umklapp terms (not in the model) would pin it",
         }
-    }
-}
-
-impl std::fmt::Display for RelativePhase {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(self.label())
     }
 }
 
@@ -160,3 +148,5 @@ pub fn coupled_uniform(
         relative_phase,
     })
 }
+
+display_by_label!(PairOutcome, RelativePhase);

@@ -28,12 +28,6 @@ impl InstabilityKind {
     }
 }
 
-impl std::fmt::Display for InstabilityKind {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str(self.label())
-    }
-}
-
 /// An instability of the normal state at one temperature.
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Instability {
@@ -63,9 +57,11 @@ pub fn normal_instability(
     let uniform = tc.uniform(model, ch)?;
     let modulated = tc.modulated(model, ch, &uniform)?;
     let tc_of = |r: &crate::solvers::TcReport| {
-        (r.status == TcStatus::Unstable)
-            .then_some(r.tc)
-            .unwrap_or(0.0)
+        if r.status == TcStatus::Unstable {
+            r.tc
+        } else {
+            0.0
+        }
     };
     let q_star = modulated.q;
     let modulated_wins = q_star != [0.0, 0.0] && modulated.tc.status == TcStatus::Unstable;
@@ -108,3 +104,5 @@ pub fn normal_instability(
         g_chi: Some(tc.g_chi(model, ch, [0.0, 0.0], t, &tc.acc)?),
     }))
 }
+
+display_by_label!(InstabilityKind);
