@@ -123,7 +123,11 @@ fn coupled_channels_report_coexistence_or_competition() {
     // 0.05 meV: below both channels' Tc0 (0.20 and 0.10 meV).
     let t = 0.05;
     let c = nestor::solvers::ordered::coupled_uniform(&os, &m, [0, 1], t).unwrap();
-    assert_eq!(c.outcome, "compete", "{c:?}");
+    assert_eq!(
+        c.outcome,
+        nestor::solvers::ordered::PairOutcome::Compete,
+        "{c:?}"
+    );
     assert!(c.omega_single[0] < c.omega_single[1] && c.omega_single[1] < 0.0);
     let alone = os.solve(&m, &m.channels()[0], t, None).unwrap();
     let delta_1 = alone.chosen().delta;

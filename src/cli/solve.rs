@@ -10,7 +10,10 @@ use nestor::observables::spectrum;
 use nestor::reports::tables;
 use nestor::solvers::canonical::canonical_state;
 use nestor::solvers::defaults::{fixed_density_window, pocket_sharing_pairs};
-use nestor::solvers::ordered::{coupled_uniform, plane_wave_q_scale, OrderedSolver};
+use nestor::solvers::ordered::{
+    coupled_uniform, normal_instability, plane_wave_q_scale, OrderedSolver,
+};
+use nestor::solvers::TcSolver;
 
 /// Options of `nestor solve`.
 #[derive(Args, Debug)]
@@ -93,7 +96,10 @@ impl SolveAt<'_> {
         let (model, s, t) = (self.model, self.s, self.t);
         let ch = &model.channels()[idx];
         let qs = (!uniform_only).then(|| plane_wave_q_scale(model, ch, t));
-        let st = s.solve(model, ch, t, qs).map_err(NestorError::from)?;
+        let mut st = s.solve(model, ch, t, qs).map_err(NestorError::from)?;
+        let inst =
+            normal_instability(&TcSolver::default(), s, model, ch, t).map_err(NestorError::from)?;
+        st.set_normal_instability(inst);
         let spectra = st
             .solutions
             .iter()

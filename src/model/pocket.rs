@@ -15,6 +15,23 @@ pub enum PocketKind {
     Dirac,
 }
 
+impl PocketKind {
+    /// The label of tables and JSON: "electron", "hole" or "dirac".
+    pub fn label(self) -> &'static str {
+        match self {
+            PocketKind::Electron => "electron",
+            PocketKind::Hole => "hole",
+            PocketKind::Dirac => "dirac",
+        }
+    }
+}
+
+impl std::fmt::Display for PocketKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.label())
+    }
+}
+
 /// Dispersion in the pocket's own axes.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Dispersion {

@@ -5,6 +5,7 @@
 use super::files::failed_cells;
 use crate::config::ConfigSource;
 use crate::model::{Channel, CouplingInput, Model, Pocket, Spin};
+use crate::solvers::ordered::StateKind;
 use crate::solvers::tc::nested_tc;
 use crate::solvers::tc_channel::ChannelTc;
 use crate::solvers::TcStatus;
@@ -191,7 +192,7 @@ fn pocket_rows(m: &Model) -> Vec<Vec<String>> {
             let (x, y) = ([1.0, 0.0], [0.0, 1.0]);
             vec![
                 p.name().to_string(),
-                format!("{:?}", p.kind()).to_lowercase(),
+                p.kind().label().to_string(),
                 format!("({}, {})", g4(p.center()[0]), g4(p.center()[1])),
                 g4(p.offset()),
                 format!(
@@ -461,7 +462,7 @@ pub fn ordered_json(
         .iter()
         .zip(spectra)
         .map(|(s, sp)| {
-            json!({
+            let mut v = json!({
                 "state": s.state,
                 "delta_meV": s.delta,
                 "q_per_nm": s.q,
@@ -469,11 +470,17 @@ pub fn ordered_json(
                 "omega_error_meV_per_nm2": c.spin_channels() * s.omega_error,
                 "stability": s.stability,
                 "quasiparticle_gap_meV": sp.gap,
-                "gapless": s.delta > 0.0 && sp.gap.is_none(),
+                "gapless": sp.gap.is_none(),
                 "gapless_arcs_deg": sp.gapless_arcs_deg,
                 "coherence_per_nm2": s.delta / c.g(),
                 "density_modulation": density_modulation(m, c, s),
-            })
+            });
+            if s.state == StateKind::Normal {
+                let inst = st.normal_instability.as_ref();
+                v["unstable_towards"] = json!(inst.map(|i| i.towards));
+                v["instability_q_per_nm"] = json!(inst.map(|i| i.q));
+            }
+            v
         })
         .collect();
     json!({
@@ -486,6 +493,7 @@ pub fn ordered_json(
         "temperature_K": kelvin(st.t),
         "solutions": sols,
         "chosen": st.chosen,
+        "reason": st.normal_reason(),
     })
 }
 
@@ -502,11 +510,7 @@ pub fn ordered_text(
         .enumerate()
         .map(|(i, (s, sp))| {
             vec![
-                format!(
-                    "{}{}",
-                    if i == st.chosen { "* " } else { "" },
-                    format!("{:?}", s.state).to_lowercase()
-                ),
+                format!("{}{}", if i == st.chosen { "* " } else { "" }, s.state),
                 g4(s.delta),
                 if s.q == [0.0, 0.0] {
                     "0".into()
@@ -514,7 +518,10 @@ pub fn ordered_text(
                     format!("({}, {})", g4(s.q[0]), g4(s.q[1]))
                 },
                 g4(c.spin_channels() * s.omega),
-                format!("{:?}", s.stability).to_lowercase(),
+                match (s.state, &st.normal_instability) {
+                    (StateKind::Normal, Some(i)) => format!("{} ({})", s.stability, i.towards),
+                    _ => s.stability.to_string(),
+                },
                 match (s.delta > 0.0, sp.gap) {
                     (false, _) => "-".into(),
                     (true, Some(g)) => g4(g),
@@ -542,6 +549,9 @@ pub fn ordered_text(
         ],
         &rows,
     );
+    if let Some(why) = st.normal_reason() {
+        s += &format!("normal state chosen: {why}\n");
+    }
     s
 }
 

@@ -16,6 +16,22 @@ use crate::model::{Channel, Model};
 use crate::solvers::optimize::brent_max;
 use crate::solvers::roots::brent_root;
 
+/// `Display` of label enums: writes `self.label()`.
+macro_rules! display_by_label {
+    ($($t:ty),*) => {$(
+        impl std::fmt::Display for $t {
+            fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str(self.label())
+            }
+        }
+    )*};
+}
+
+mod coupled;
+mod instability;
+pub use coupled::{coupled_uniform, CoupledChannels, PairOutcome, RelativePhase};
+pub use instability::{normal_instability, Instability, InstabilityKind};
+
 /// Tolerances of the ordered-state search.
 #[derive(Debug, Clone, Copy)]
 pub struct OrderedSolver {
@@ -44,18 +60,46 @@ impl Default for OrderedSolver {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum StateKind {
+    /// No order (Delta = 0).
     Normal,
+    /// Order at q = 0.
     Uniform,
+    /// A plane wave at q != 0.
     Modulated,
+}
+
+impl StateKind {
+    /// The label of tables and JSON: "normal", "uniform" or "modulated".
+    pub fn label(self) -> &'static str {
+        match self {
+            StateKind::Normal => "normal",
+            StateKind::Uniform => "uniform",
+            StateKind::Modulated => "modulated",
+        }
+    }
 }
 
 /// Stability of a solution among all those at the same temperature.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Stability {
+    /// The lowest minimum of Omega.
     Stable,
+    /// Another minimum of Omega.
     Metastable,
+    /// A maximum or saddle of Omega (or a normal state with g chi > 1 at some q).
     Unstable,
+}
+
+impl Stability {
+    /// The label of tables and JSON: "stable", "metastable" or "unstable".
+    pub fn label(self) -> &'static str {
+        match self {
+            Stability::Stable => "stable",
+            Stability::Metastable => "metastable",
+            Stability::Unstable => "unstable",
+        }
+    }
 }
 
 /// One stationary point of Omega.
@@ -87,6 +131,10 @@ pub struct OrderedStates {
     /// Index of the chosen solution (lowest Omega among minima; the normal state when none
     /// is lower).
     pub chosen: usize,
+    /// The leading instability of the normal state (g chi(q, T) > 1), when known: set by
+    /// [`set_normal_instability`](Self::set_normal_instability); None when the normal state is
+    /// stable or it was not checked.
+    pub normal_instability: Option<Instability>,
 }
 
 impl OrderedStates {
@@ -95,20 +143,17 @@ impl OrderedStates {
         &self.solutions[self.chosen]
     }
 
-    /// Marks the lowest minimum stable, other minima metastable, maxima unstable.
+    /// Marks the lowest minimum stable, other minima metastable, maxima unstable, and the normal
+    /// state unstable when it has an instability at some q (it stays chosen only when no lower
+    /// minimum was found).
     pub fn reclassify(&mut self) {
-        if let Some(c) = self
-            .solutions
-            .iter()
-            .enumerate()
-            .filter(|(_, s)| s.minimum)
-            .min_by(|a, b| a.1.omega.total_cmp(&b.1.omega))
-            .map(|(i, _)| i)
-        {
+        if let Some(c) = lowest_minimum_index(&self.solutions) {
             self.chosen = c;
         }
         for (i, s) in self.solutions.iter_mut().enumerate() {
-            s.stability = if i == self.chosen {
+            s.stability = if s.state == StateKind::Normal && self.normal_instability.is_some() {
+                Stability::Unstable
+            } else if i == self.chosen {
                 Stability::Stable
             } else if s.minimum {
                 Stability::Metastable
@@ -117,6 +162,45 @@ impl OrderedStates {
             };
         }
     }
+
+    /// Records the normal state's instability (from [`normal_instability`]) and relabels.
+    pub fn set_normal_instability(&mut self, inst: Option<Instability>) {
+        self.normal_instability = inst;
+        self.reclassify();
+    }
+
+    /// Why the normal state is chosen, when it is (None otherwise).
+    pub fn normal_reason(&self) -> Option<String> {
+        if self.chosen().state != StateKind::Normal {
+            return None;
+        }
+        if let Some(i) = &self.normal_instability {
+            return Some(format!(
+                "the normal state is unstable towards the {} state at q = ({:.4e}, {:.4e})/nm, but no ordered state below it was found",
+                i.towards, i.q[0], i.q[1]
+            ));
+        }
+        Some(
+            if self
+                .solutions
+                .iter()
+                .any(|s| s.minimum && s.state != StateKind::Normal)
+            {
+                "every ordered minimum of Omega lies above the normal state".into()
+            } else {
+                "above every critical temperature: no ordered minimum of Omega".into()
+            },
+        )
+    }
+}
+
+/// Index of the lowest minimum of Omega among `sols`.
+fn lowest_minimum_index(sols: &[Solution]) -> Option<usize> {
+    sols.iter()
+        .enumerate()
+        .filter(|(_, s)| s.minimum)
+        .min_by(|a, b| a.1.omega.total_cmp(&b.1.omega))
+        .map(|(i, _)| i)
 }
 
 impl OrderedSolver {
@@ -388,133 +472,35 @@ impl OrderedSolver {
             }
         }
         // Classify: the lowest minimum is stable, other minima metastable, maxima unstable.
-        let chosen = all
-            .iter()
-            .enumerate()
-            .filter(|(_, s)| s.minimum)
-            .min_by(|a, b| a.1.omega.total_cmp(&b.1.omega))
-            .map(|(i, _)| i)
-            .ok_or_else(|| {
-                NumericalError::NoMinimum(format!(
-                    "channel {}: Omega has no minimum on the gap grid at T = {t:.4e} meV (the normal state is unstable); refine the grid",
-                    ch.label()
-                ))
-            })?;
-        for (i, s) in all.iter_mut().enumerate() {
-            s.stability = if i == chosen {
-                Stability::Stable
-            } else if s.minimum {
-                Stability::Metastable
-            } else {
-                Stability::Unstable
-            };
-        }
-        Ok(OrderedStates {
+        let chosen = lowest_minimum_index(&all).ok_or_else(|| {
+            NumericalError::NoMinimum(format!(
+                "channel {}: Omega has no minimum on the gap grid at T = {t:.4e} meV (the normal state is unstable); refine the grid",
+                ch.label()
+            ))
+        })?;
+        let mut states = OrderedStates {
             t,
             solutions: all,
             chosen,
-        })
+            normal_instability: None,
+        };
+        states.reclassify();
+        Ok(states)
     }
 }
 
 /// The search range of the plane-wave wavevector: 2 (|h| + 2 T) / v with v the smaller Fermi
-/// velocity and h the largest |h_k| on the nesting line; at least a tenth of the nested Tc in T.
+/// velocity and h the largest |h_k| on the nesting line; at least a tenth of the nested Tc in T
+/// and at most half the cutoff Lambda (meV).
+///
+/// Pairs exist only within |xi| < Lambda: a wavevector whose energy shift v |q| / 2 exceeds
+/// |h| + Lambda pairs nothing at equal energy, so the scale stops growing at T = Lambda / 2.
+/// Without that bound the scan (to twice the scale) would reach, at high T, wavevectors that
+/// displace the pockets off each other, where the shell is empty.
 pub fn plane_wave_q_scale(model: &Model, ch: &Channel, t: f64) -> f64 {
     let t_floor = crate::solvers::tc::nested_tc(ch).unwrap_or(0.0) * 0.1;
-    crate::solvers::tc::q_search_scale(model, ch, t.max(t_floor))
+    let t_top = 0.5 * ch.cutoff();
+    crate::solvers::tc::q_search_scale(model, ch, t.max(t_floor).min(t_top.max(t_floor)))
 }
 
-/// Two uniform channels that share a pocket, ordered together (the crate docs, [`theory::ordered`](crate::theory::ordered)).
-#[derive(Debug, Clone, serde::Serialize)]
-pub struct CoupledChannels {
-    /// Labels of the two channels.
-    pub channels: [String; 2],
-    /// Gaps (meV) at the lowest Omega found over (Delta_1, Delta_2) >= 0.
-    pub deltas: [f64; 2],
-    /// Omega per spin channel there, meV/nm^2.
-    pub omega: f64,
-    /// Omega of each channel ordered alone (its own lowest minimum), meV/nm^2.
-    pub omega_single: [f64; 2],
-    /// "coexist" (both gaps non-zero at the minimum) or "compete" (one gap vanishes).
-    pub outcome: String,
-    /// The relative phase of the two order parameters.
-    pub relative_phase: String,
-}
-
-/// Minimises Omega over (Delta_1, Delta_2) for two uniform channels sharing a pocket, starting
-/// from each channel's own solution, by alternating Brent minimisations in each gap.
-pub fn coupled_uniform(
-    os: &OrderedSolver,
-    model: &Model,
-    pair: [usize; 2],
-    t: f64,
-) -> Result<CoupledChannels, NumericalError> {
-    use crate::kernels::multichannel::omega_uniform_channels;
-    let acc = os.acc;
-    let om = |d: [f64; 2]| -> Result<f64, NumericalError> {
-        Ok(omega_uniform_channels(model, &pair, &d, t, &acc)?.value)
-    };
-    let mut single = [0.0; 2];
-    let mut d_single = [0.0; 2];
-    for (i, &c) in pair.iter().enumerate() {
-        let st = os.solve(model, &model.channels()[c], t, None)?;
-        let ch = st.chosen();
-        single[i] = ch.omega;
-        d_single[i] = ch.delta;
-    }
-    let mut best: Option<([f64; 2], f64)> = None;
-    for start in [
-        [d_single[0], 0.0],
-        [0.0, d_single[1]],
-        [d_single[0], d_single[1]],
-    ] {
-        let mut d = start;
-        let mut value = om(d)?;
-        for _ in 0..4 {
-            for i in 0..2 {
-                let hi = 1.5 * d_single[i].max(d[i]).max(1e-9);
-                let m = brent_max("coupled gap", 0.0, hi, 1e-6 * hi, |x| {
-                    let mut e = d;
-                    e[i] = x;
-                    Ok(-om(e)?)
-                })?;
-                if -m.value < value {
-                    d[i] = m.x;
-                    value = -m.value;
-                }
-            }
-        }
-        if best.is_none_or(|b| value < b.1) {
-            best = Some((d, value));
-        }
-    }
-    let (d, value) = best.unwrap_or(([0.0, 0.0], 0.0));
-    let small = |i: usize| d[i] < 1e-3 * d_single[i].max(1e-12);
-    let outcome = if !small(0) && !small(1) {
-        "coexist"
-    } else {
-        "compete"
-    };
-    let (c1, c2) = (&model.channels()[pair[0]], &model.channels()[pair[1]]);
-    let p1 = c1.nesting_vector(model);
-    let p2 = c2.nesting_vector(model);
-    let commensurate = model.surface().map(|l| {
-        let f = |p: [f64; 2]| {
-            let g = l.fold([2.0 * p[0], 2.0 * p[1]]);
-            g[0].hypot(g[1]) < 1e-9
-        };
-        f(p1) && f(p2)
-    });
-    let relative_phase = match commensurate {
-        Some(true) => "free in this model (the gauge of the unshared pockets absorbs it); 2P is a reciprocal vector for both channels, so umklapp terms (not in the model) would pin it".into(),
-        _ => "free (a Goldstone-like phase: the gauge of the unshared pockets absorbs it)".into(),
-    };
-    Ok(CoupledChannels {
-        channels: [c1.label().to_string(), c2.label().to_string()],
-        deltas: d,
-        omega: value,
-        omega_single: single,
-        outcome: outcome.into(),
-        relative_phase,
-    })
-}
+display_by_label!(StateKind, Stability);

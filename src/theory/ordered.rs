@@ -42,7 +42,9 @@
 //! Several solutions can coexist at one (T, h): at T = 0 and Delta0/2 < h < Delta0 there is, besides
 //! the fully gapped state, a gapless branch. All solutions are found, each is classified from
 //! Omega (the lowest minimum stable, other minima metastable, maxima unstable), and the state
-//! with the lowest Omega is reported.
+//! with the lowest Omega is reported. The normal state is unstable wherever g chi(q, T) > 1 at some
+//! q, towards the uniform state (q = 0) or a modulated one (q*), even where Omega at q = 0 has a
+//! minimum at Delta = 0; its quasiparticles are gapless on the whole Fermi surface.
 //!
 //! - A first-order transition lies where two minima have equal Omega.
 //! - A spinodal lies where a local minimum disappears (it merges with a maximum: dOmega/dDelta and
