@@ -283,18 +283,22 @@ fn derive_channel(
 /// Why a channel has no pair density of states (W = 0 on the whole nesting line) and what would
 /// pair its pockets; the form factors are in [`crate::theory::channels`].
 fn no_pair_density(form: &FormFactor) -> String {
-    let why = match *form {
+    // An upper and a lower cone (s_a s_b = -1) of equal winding and phase in the charge channel.
+    let same_texture = match *form {
         FormFactor::Helical {
-            signs,
-            winding_a,
-            winding_b,
-            phase_a,
-            phase_b,
             matrix: SpinMatrix::Identity,
-        } if signs < 0.0 && winding_a == winding_b && (phase_a - phase_b).norm() < 1e-12 => {
-            "the band form factor W = |<chi_a|M|chi_b>|^2 vanishes: an upper and a lower cone (an electron-like and a hole-like helical pocket) of equal winding and texture phase have orthogonal spinors at the same momentum, so the charge channel M = 1 does not pair them"
-        }
-        _ => "the band form factor W = |<chi_a|M|chi_b>|^2 vanishes on the whole nesting line: the spinors of the two pockets are orthogonal under this spin matrix",
+            signs: s,
+            winding_a: wa,
+            winding_b: wb,
+            phase_a: pa,
+            phase_b: pb,
+        } => s < 0.0 && wa == wb && (pa - pb).norm() < 1e-12,
+        _ => false,
+    };
+    let why = if same_texture {
+        "the band form factor W = |<chi_a|M|chi_b>|^2 vanishes: an upper and a lower cone (an electron-like and a hole-like helical pocket) of equal winding and texture phase have orthogonal spinors at the same momentum, so the charge channel M = 1 does not pair them"
+    } else {
+        "the band form factor W = |<chi_a|M|chi_b>|^2 vanishes on the whole nesting line: the spinors of the two pockets are orthogonal under this spin matrix"
     };
     format!(
         "{why}; this channel has no pair density of states, so lambda = g nu cannot be converted. \
