@@ -268,11 +268,11 @@ fn bad_pattern_options() {
         ),
         (
             vec!["--temperature", "0.5", "--fov", "0"],
-            vec!["--fov 0", "(0, 10000] nm"],
+            vec!["--fov 0", "(0, 1000000] nm"],
         ),
         (
             vec!["--temperature", "0.5", "--fov=-3"],
-            vec!["--fov -3", "(0, 10000] nm"],
+            vec!["--fov -3", "(0, 1000000] nm"],
         ),
         (
             vec!["--temperature", "0.5", "--along", "x.offset"],

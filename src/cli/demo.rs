@@ -148,7 +148,7 @@ fn pattern_step(a: &DemoArgs, src: &ConfigSource) -> Result<Outcome, Failure> {
         temperature: DEMO_PATTERN_T,
         along: None,
         // 25 periods of the 0.8 nm charge-density wave.
-        fov: 20.0,
+        fov: Some(20.0),
         channel: Some("XG".into()),
         wavevectors: vec![],
         every_structure: false,

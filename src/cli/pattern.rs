@@ -10,7 +10,7 @@ use nestor::config::{ConfigSource, Override};
 use nestor::error::NestorError;
 use nestor::model::structure::Structure;
 use nestor::model::Model;
-use nestor::observables::density_waves;
+use nestor::observables::{density_waves, plan_maps};
 use nestor::reports::pattern::{
     pattern_json, pattern_text, unpaired_correlation, write_pattern, PatternReport,
 };
@@ -35,9 +35,12 @@ pub struct PatternArgs {
     /// hole-like pocket's offset of the channel).
     #[arg(long, value_name = "PATH")]
     pub along: Option<String>,
-    /// Side of the real-space density map in nm.
-    #[arg(long, default_value_t = 60.0, value_name = "NM")]
-    pub fov: f64,
+    /// Side of the real-space density map in nm (default: from the wavevectors, at least two
+    /// periods of the longest wave; with an atomic-scale wave and a long envelope, two maps). A
+    /// field that cannot be sampled with 8 points per shortest period in 1024 samples is shrunk
+    /// to the largest that can, with a warning.
+    #[arg(long, value_name = "NM")]
+    pub fov: Option<f64>,
     /// Channel name or label (default: the first channel).
     #[arg(long)]
     pub channel: Option<String>,
@@ -82,7 +85,13 @@ pub fn run_on(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outc
     let ch = &model.channels()[channel];
     let chosen = lowest(&candidates);
     let waves = density_waves(model, ch, &candidates[chosen]);
-    let unpaired = unpaired_correlation(&waves, &candidates[chosen], a.fov);
+    let kind = waves
+        .iter()
+        .find(|w| w.period_nm.is_some())
+        .map_or("charge", |w| w.kind);
+    let maps = plan_maps(&waves, kind, a.fov);
+    warn_map_notes(&maps.notes);
+    let unpaired = unpaired_correlation(&waves, &candidates[chosen], maps.widest_fov_nm());
     let report = PatternReport {
         src,
         model,
@@ -93,7 +102,7 @@ pub fn run_on(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outc
         candidates: &candidates,
         chosen,
         waves: &waves,
-        fov: a.fov,
+        maps: &maps,
         unpaired_correlation: unpaired,
     };
     let stem = format!("pattern_{}", ch.label());
@@ -117,6 +126,16 @@ pub fn run_on(src: &ConfigSource, model: &Model, a: &PatternArgs) -> Result<Outc
     }
 }
 
+/// Largest `--fov`, nm (1 mm; whether a field can be sampled is checked once the waves are known).
+const MAX_FOV_NM: f64 = 1e6;
+
+/// Prints the notes of the map fields as warnings (they do not make the run fail).
+fn warn_map_notes(notes: &[String]) {
+    for n in notes {
+        eprintln!("nestor: warning: {n}");
+    }
+}
+
 /// Checks the options: the channel index, the path varied to reach the line (`--along` or the
 /// library default) and the user's structures.
 fn validate(
@@ -132,11 +151,12 @@ fn validate(
             a.temperature
         )));
     }
-    if !(a.fov.is_finite() && a.fov > 0.0 && a.fov <= 1e4) {
-        return Err(Failure::Input(format!(
-            "--fov {}: must lie in (0, 10000] nm",
-            a.fov
-        )));
+    if let Some(fov) = a.fov {
+        if !(fov.is_finite() && fov > 0.0 && fov <= MAX_FOV_NM) {
+            return Err(Failure::Input(format!(
+                "--fov {fov}: must lie in (0, {MAX_FOV_NM}] nm"
+            )));
+        }
     }
     let path = match &a.along {
         Some(p) => p.clone(),

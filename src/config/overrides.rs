@@ -5,7 +5,7 @@
 //! isotropic mass, `B.mass.x=0.3` sets one axis).
 
 use crate::error::InputError;
-use crate::model::{Model, Param, CHANNEL_KEYS, POCKET_KEYS, SURFACE_KEYS};
+use crate::model::{degenerate_phase, Model, Param, CHANNEL_KEYS, POCKET_KEYS, SURFACE_KEYS};
 use toml::{Table, Value};
 
 /// Resolves `target.key[component]` against `model` into a typed parameter and checks that the
@@ -252,28 +252,24 @@ pub fn apply(origin: &str, table: &mut Table, o: &Override) -> Result<(), InputE
     set_key(item, o, &err)
 }
 
-/// Sets the override's key in one `[[pocket]]` or `[[channel]]` table.
+/// Keys that say how a pocket's dispersion is given (`mass` + `offset`, `kf` + `vf`, or
+/// `velocity` + `offset`): an override may change them but not add one the entry lacks.
+const DISPERSION_KEYS: &[&str] = &["mass", "offset", "velocity", "kf", "vf"];
+
+/// Sets the override's key in one `[[pocket]]` or `[[channel]]` table. An override changes a
+/// value; it never adds a key or a table that would change the kind of a pocket, the way its
+/// dispersion is given or its spin structure.
 fn set_key(
     item: &mut Table,
     o: &Override,
     err: &dyn Fn(String) -> InputError,
 ) -> Result<(), InputError> {
     let v = Value::Float(o.value);
+    if item.contains_key("kind") && DISPERSION_KEYS.contains(&o.key.as_str()) {
+        check_dispersion_key(item, &o.key, err)?;
+    }
     match o.key.as_str() {
-        "phase" => {
-            let spin = item
-                .entry("spin")
-                .or_insert_with(|| Value::Table(Table::new()));
-            match spin {
-                Value::Table(t) => {
-                    t.insert("phase".into(), v);
-                    if !t.contains_key("winding") {
-                        t.insert("winding".into(), Value::Integer(1));
-                    }
-                }
-                _ => return Err(err("the pocket's spin is \"degenerate\"; a phase needs a helical spin { winding, phase }".into())),
-            }
-        }
+        "phase" => set_phase(item, v, err)?,
         "lambda" | "g" => {
             let other = if o.key == "lambda" { "g" } else { "lambda" };
             item.remove(other);
@@ -305,6 +301,57 @@ fn set_key(
             }
             item.insert(key.into(), v);
         }
+    }
+    Ok(())
+}
+
+/// Refuses a dispersion key that the pocket entry does not have (it would change how the
+/// pocket is given, or its kind).
+fn check_dispersion_key(
+    item: &Table,
+    key: &str,
+    err: &dyn Fn(String) -> InputError,
+) -> Result<(), InputError> {
+    if item.contains_key(key) {
+        return Ok(());
+    }
+    let name = item.get("name").and_then(Value::as_str).unwrap_or("?");
+    let kind = item.get("kind").and_then(Value::as_str).unwrap_or("?");
+    let given: Vec<String> = DISPERSION_KEYS
+        .iter()
+        .filter(|k| item.contains_key(**k))
+        .map(|k| format!("`{k}`"))
+        .collect();
+    Err(err(format!(
+        "pocket {name} ({kind}) has no `{key}` in the file (it is given by {}); an override may change a value, never the kind of a pocket or the way its dispersion is given",
+        given.join(" + ")
+    )))
+}
+
+/// Sets the texture phase of a helical pocket. A Dirac pocket without a `spin` key is helical
+/// with winding 1 and phase 0, so its phase may be set; a spin-degenerate pocket has no phase.
+fn set_phase(
+    item: &mut Table,
+    v: Value,
+    err: &dyn Fn(String) -> InputError,
+) -> Result<(), InputError> {
+    let name = item
+        .get("name")
+        .and_then(Value::as_str)
+        .unwrap_or("?")
+        .to_string();
+    let dirac = item.get("kind").and_then(Value::as_str) == Some("dirac");
+    match item.get_mut("spin") {
+        Some(Value::Table(t)) => {
+            t.insert("phase".into(), v);
+        }
+        None if dirac => {
+            let mut t = Table::new();
+            t.insert("winding".into(), Value::Integer(1));
+            t.insert("phase".into(), v);
+            item.insert("spin".into(), Value::Table(t));
+        }
+        _ => return Err(err(degenerate_phase(&name).0)),
     }
     Ok(())
 }

@@ -6,7 +6,9 @@
 //! computed once, at construction, and can never go stale).
 
 use super::spec::{check_positive, entry_error, key_error, PocketSpec};
-use super::{form_factor, spin_channels, Channel, CouplingInput, Lattice, Model, SpinMatrix};
+use super::{
+    form_factor, spin_channels, Channel, CouplingInput, FormFactor, Lattice, Model, SpinMatrix,
+};
 use crate::error::InputError;
 use crate::kernels::susceptibility::nesting_line;
 use crate::kernels::{Accuracy, Shell};
@@ -245,11 +247,7 @@ fn derive_channel(
         (None, CouplingInput::G(g)) => g,
         (None, CouplingInput::Lambda(l)) => {
             if nu <= 1e-12 * line.nu_unweighted {
-                return Err(key_error(
-                    &entry,
-                    "lambda",
-                    "the pair density of states of this channel vanishes (its form factor is zero on the nesting line), so lambda cannot be converted: give `g` in meV nm^2 instead",
-                ));
+                return Err(key_error(&entry, "lambda", no_pair_density(&form)));
             }
             l / nu
         }
@@ -283,4 +281,32 @@ fn derive_channel(
         mismatch: line.mismatch,
         mismatch_range: [line.mismatch_min, line.mismatch_max],
     })
+}
+
+/// Why a channel has no pair density of states (W = 0 on the whole nesting line) and what would
+/// pair its pockets; the form factors are in [`crate::theory::channels`].
+fn no_pair_density(form: &FormFactor) -> String {
+    // An upper and a lower cone (s_a s_b = -1) of equal winding and phase in the charge channel.
+    let same_texture = match *form {
+        FormFactor::Helical {
+            matrix: SpinMatrix::Identity,
+            signs: s,
+            winding_a: wa,
+            winding_b: wb,
+            phase_a: pa,
+            phase_b: pb,
+        } => s < 0.0 && wa == wb && (pa - pb).norm() < 1e-12,
+        _ => false,
+    };
+    let why = if same_texture {
+        "the band form factor W = |<chi_a|M|chi_b>|^2 vanishes: an upper and a lower cone (an electron-like and a hole-like helical pocket) of equal winding and texture phase have orthogonal spinors at the same momentum, so the charge channel M = 1 does not pair them"
+    } else {
+        "the band form factor W = |<chi_a|M|chi_b>|^2 vanishes on the whole nesting line: the spinors of the two pockets are orthogonal under this spin matrix"
+    };
+    format!(
+        "{why}; this channel has no pair density of states, so lambda = g nu cannot be converted. \
+         What pairs them: opposite windings (spin = {{ winding = -1 }} on one pocket), a texture phase \
+         difference (e.g. spin = {{ winding = 1, phase = 180 }} on one), or a spin channel \
+         (spin_matrix = \"z\", \"x\" or \"y\"); to keep this channel as it is, give `g` in meV nm^2 instead"
+    )
 }

@@ -16,7 +16,7 @@ pub mod structure;
 pub use build::ChannelSpec;
 pub use params::{Param, CHANNEL_KEYS, POCKET_KEYS, SURFACE_KEYS};
 pub use pocket::{Dispersion, Pocket, PocketKind, Spin};
-pub(crate) use spec::check_positive;
+pub(crate) use spec::{check_positive, degenerate_phase};
 pub use spec::{DispersionSpec, PocketSpec, SpinSpec};
 
 use num_complex::Complex64;

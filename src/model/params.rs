@@ -4,7 +4,9 @@
 //! whose coupling is itself set.
 
 use super::build::BuildOptions;
-use super::spec::{dirac_only, entry_error, key_error, kind_name, DispersionSpec, SpinSpec};
+use super::spec::{
+    degenerate_phase, dirac_only, entry_error, key_error, kind_name, DispersionSpec, SpinSpec,
+};
 use super::{CouplingInput, Lattice, Model};
 use crate::error::InputError;
 
@@ -133,7 +135,7 @@ impl Model {
             "angle" => single(Param::Angle { pocket }),
             "phase" => match self.pocket_specs[pocket].spin {
                 SpinSpec::Helical { .. } => single(Param::SpinPhase { pocket }),
-                SpinSpec::Degenerate => Err(InputError::new("the pocket's spin is \"degenerate\"; a phase needs a helical spin { winding, phase }")),
+                SpinSpec::Degenerate => Err(degenerate_phase(name)),
             },
             "mass" => Ok(Param::Mass { pocket, component }),
             "velocity" => Ok(Param::Velocity { pocket, component }),
@@ -340,7 +342,7 @@ fn set_pocket(pockets: &mut [super::PocketSpec], p: Param, v: f64) -> Result<(),
         (Param::Center { component, .. }, _) => spec.center[component] = v,
         (Param::SpinPhase { .. }, _) => match &mut spec.spin {
             SpinSpec::Helical { phase_deg, .. } => *phase_deg = v,
-            SpinSpec::Degenerate => return Err(InputError::new("the pocket's spin is \"degenerate\"; a phase needs a helical spin { winding, phase }")),
+            SpinSpec::Degenerate => return Err(degenerate_phase(&spec.name)),
         },
         (Param::Offset { .. }, DispersionSpec::Mass { offset, .. } | DispersionSpec::Cone { offset, .. }) => *offset = v,
         (Param::Offset { .. }, DispersionSpec::FermiPoint { .. }) => {

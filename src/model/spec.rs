@@ -171,6 +171,14 @@ impl PocketSpec {
     }
 }
 
+/// The message for a texture phase asked of the spin-degenerate pocket `name` (an override may
+/// change a value, never a pocket's spin structure).
+pub(crate) fn degenerate_phase(name: &str) -> InputError {
+    InputError::new(format!(
+        "pocket {name} is spin-degenerate; a texture phase exists only for a helical pocket (give spin = {{ winding = ..., phase = ... }} in the file): an override may change a value, never the kind of a pocket or its spin structure"
+    ))
+}
+
 /// The message for a parabolic key on a Dirac pocket.
 pub(crate) fn dirac_only(entry: &str, key: &str) -> InputError {
     key_error(entry, key, "a \"dirac\" pocket takes `velocity` (hbar v, meV nm) and `offset` (Dirac-point energy, meV)")

@@ -1,6 +1,7 @@
 //! Density observables of a pattern state (after the solvers): the charge and spin density
 //! waves a scanning probe would see (wavevectors in 1/nm, amplitudes per nm^2), their real-space
-//! map, the map of |Delta(r)|^2 (meV^2), and the correlation of two maps.
+//! map and its envelope, the map of |Delta(r)|^2 (meV^2), and the correlation of two maps. The
+//! fields of view and samplings of the maps are chosen in [`crate::observables::fields`].
 
 use crate::model::{Channel, Model};
 use crate::solvers::pattern::StateCandidate;
@@ -90,44 +91,84 @@ pub fn density_waves(model: &Model, ch: &Channel, state: &StateCandidate) -> Vec
     out
 }
 
-/// The density modulation sum_w A_w cos(P_w.r + phase_w) of `waves` of one kind (per nm^2) on an
-/// n x n grid over [-fov/2, fov/2]^2 (nm), row-major with y outer. Waves at P = 0 (a uniform
-/// interband coherence, no modulation) are left out.
-pub fn density_map(waves: &[DensityWave], kind: &str, fov: f64, n: usize) -> Vec<f64> {
-    let mut out = vec![0.0; n * n];
+/// The values of `f(x, y)` on an n x n grid over [-fov/2, fov/2]^2 (nm), cell centres,
+/// row-major with y outer.
+fn on_grid(fov: f64, n: usize, f: impl Fn(f64, f64) -> f64) -> Vec<f64> {
+    let at = |i: usize| -0.5 * fov + fov * (i as f64 + 0.5) / n as f64;
+    let mut out = Vec::with_capacity(n * n);
     for iy in 0..n {
-        let y = -0.5 * fov + fov * (iy as f64 + 0.5) / n as f64;
-        for ix in 0..n {
-            let x = -0.5 * fov + fov * (ix as f64 + 0.5) / n as f64;
-            out[iy * n + ix] = waves
-                .iter()
-                .filter(|w| w.kind == kind && w.period_nm.is_some())
-                .map(|w| {
-                    w.amplitude_per_nm2
-                        * (w.wavevector_per_nm[0] * x + w.wavevector_per_nm[1] * y + w.phase).cos()
-                })
-                .sum();
-        }
+        let y = at(iy);
+        out.extend((0..n).map(|ix| f(at(ix), y)));
     }
     out
 }
 
+/// The modulated waves (P != 0) of one kind.
+fn modulated<'w>(waves: &'w [DensityWave], kind: &'w str) -> impl Iterator<Item = &'w DensityWave> {
+    waves
+        .iter()
+        .filter(move |w| w.kind == kind && w.period_nm.is_some())
+}
+
+/// |P| of a wave, 1/nm.
+fn norm(w: &DensityWave) -> f64 {
+    w.wavevector_per_nm[0].hypot(w.wavevector_per_nm[1])
+}
+
+/// A_w cos(P_w.r + phase_w) at (x, y) nm.
+fn wave_at(w: &DensityWave, x: f64, y: f64) -> f64 {
+    w.amplitude_per_nm2 * (w.wavevector_per_nm[0] * x + w.wavevector_per_nm[1] * y + w.phase).cos()
+}
+
+/// The density modulation sum_w A_w cos(P_w.r + phase_w) of `waves` of one kind (per nm^2) on an
+/// n x n grid over [-fov/2, fov/2]^2 (nm), row-major with y outer. Waves at P = 0 (a uniform
+/// interband coherence, no modulation) are left out.
+pub fn density_map(waves: &[DensityWave], kind: &str, fov: f64, n: usize) -> Vec<f64> {
+    on_grid(fov, n, |x, y| {
+        modulated(waves, kind).map(|w| wave_at(w, x, y)).sum()
+    })
+}
+
+/// The density as seen on a field too large to resolve the waves with |P| > `fast_above` (1/nm),
+/// per nm^2: the slower waves as they are plus the local amplitude |sum_fast A_w e^{i(P_w.r +
+/// phase_w)}| of the fast ones (their envelope; the fast waves of one channel lie near one
+/// wavevector K_a - K_b, so the modulus varies on the scale of their differences only). Same grid
+/// as [`density_map`].
+pub fn envelope_map(
+    waves: &[DensityWave],
+    kind: &str,
+    fov: f64,
+    n: usize,
+    fast_above: f64,
+) -> Vec<f64> {
+    on_grid(fov, n, |x, y| {
+        let mut slow = 0.0;
+        let mut fast = num_complex::Complex64::new(0.0, 0.0);
+        for w in modulated(waves, kind) {
+            if norm(w) > fast_above {
+                let p = w.wavevector_per_nm;
+                fast += num_complex::Complex64::from_polar(
+                    w.amplitude_per_nm2,
+                    p[0] * x + p[1] * y + w.phase,
+                );
+            } else {
+                slow += wave_at(w, x, y);
+            }
+        }
+        slow + fast.norm()
+    })
+}
+
 /// |Delta(r)|^2 of a state's components on the same grid as [`density_map`] (meV^2).
 pub fn gap_map(state: &StateCandidate, fov: f64, n: usize) -> Vec<f64> {
-    let mut out = vec![0.0; n * n];
-    for iy in 0..n {
-        let y = -0.5 * fov + fov * (iy as f64 + 0.5) / n as f64;
-        for ix in 0..n {
-            let x = -0.5 * fov + fov * (ix as f64 + 0.5) / n as f64;
-            let d: num_complex::Complex64 = state
-                .components
-                .iter()
-                .map(|(g, d)| d * num_complex::Complex64::from_polar(1.0, g[0] * x + g[1] * y))
-                .sum();
-            out[iy * n + ix] = d.norm_sqr();
-        }
-    }
-    out
+    on_grid(fov, n, |x, y| {
+        let d: num_complex::Complex64 = state
+            .components
+            .iter()
+            .map(|(g, d)| d * num_complex::Complex64::from_polar(1.0, g[0] * x + g[1] * y))
+            .sum();
+        d.norm_sqr()
+    })
 }
 
 /// Pearson correlation of two maps (0 when either is constant).

@@ -8,7 +8,9 @@ use super::files::{figure_files, write_json};
 use super::tables::{header, text_table};
 use crate::config::ConfigSource;
 use crate::model::{Channel, Model};
-use crate::observables::{correlation, density_map, gap_map, DensityWave};
+use crate::observables::{
+    correlation, density_map, envelope_map, gap_map, DensityWave, MapField, MapPlan,
+};
 use crate::solvers::pattern::{LinePoint, RankedStructure, StateCandidate};
 use crate::units::mev_to_kelvin;
 use serde_json::{json, Value};
@@ -34,8 +36,8 @@ pub struct PatternReport<'a> {
     pub chosen: usize,
     /// Density waves of the chosen state.
     pub waves: &'a [DensityWave],
-    /// Field of view of the map, nm.
-    pub fov: f64,
+    /// The density maps: their fields of view (nm), samplings and notes.
+    pub maps: &'a MapPlan,
     /// Correlation of the second-order density with |Delta(r)|^2 (None without second order).
     pub unpaired_correlation: Option<f64>,
 }
@@ -69,7 +71,10 @@ pub fn pattern_json(r: &PatternReport) -> Value {
         }),
         None => Value::Null,
     };
-    v["field_of_view_nm"] = json!(r.fov);
+    v["field_of_view_nm"] = json!(r.maps.widest_fov_nm());
+    v["requested_field_of_view_nm"] = json!(r.maps.requested_fov_nm);
+    v["maps"] = json!(r.maps.maps);
+    v["map_notes"] = json!(r.maps.notes);
     v["warnings"] = json!(r.model.warnings());
     v
 }
@@ -172,6 +177,7 @@ pub fn pattern_text(r: &PatternReport) -> String {
     s += &structures_text(r);
     s += &states_text(r);
     s += &waves_text(r);
+    s += &maps_text(r.maps);
     if let Some((c, carriers, small)) = unpaired(r) {
         s += &format!(
             "the unpaired {carriers} collect where |Delta(r)| is {} (correlation of the second-order charge density with |Delta|^2: {c:.3})\n",
@@ -310,6 +316,28 @@ fn states_text(r: &PatternReport) -> String {
     s
 }
 
+/// One line on the density maps: each map's field, sampling and content.
+fn maps_text(plan: &MapPlan) -> String {
+    let maps: Vec<String> = plan
+        .maps
+        .iter()
+        .map(|m| {
+            let content = match m.envelope_above_per_nm {
+                Some(k) => format!(
+                    ", waves shorter than {:.4} nm as their local amplitude",
+                    2.0 * std::f64::consts::PI / k
+                ),
+                None => String::new(),
+            };
+            format!(
+                "{} {:.5} nm ({} x {} samples{content})",
+                m.name, m.fov_nm, m.samples, m.samples
+            )
+        })
+        .collect();
+    format!("density maps: {}\n", maps.join("; "))
+}
+
 /// The table of the chosen state's density waves (empty without waves).
 fn waves_text(r: &PatternReport) -> String {
     if r.waves.is_empty() {
@@ -348,17 +376,9 @@ fn waves_text(r: &PatternReport) -> String {
     s
 }
 
-/// Samples per side of the density map: eight per shortest period, between 128 and 1024.
-pub fn map_resolution(waves: &[DensityWave], fov: f64) -> usize {
-    let kmax = waves
-        .iter()
-        .map(|w| w.wavevector_per_nm[0].hypot(w.wavevector_per_nm[1]))
-        .fold(0.0, f64::max);
-    ((8.0 * fov * kmax / (2.0 * std::f64::consts::PI)).ceil() as usize).clamp(128, 1024)
-}
-
-/// Writes `<stem>.json`, `<stem>.png` and `<stem>.svg` (the map of the first wave's kind) into
-/// `out`; returns the paths.
+/// Writes `<stem>.json` and the density maps of the first modulated wave's kind into `out`:
+/// `<stem>.png` and `<stem>.svg` for a single map, `<stem>_<name>.png`/`.svg` for each of
+/// several (atomic and envelope); returns the paths.
 pub fn write_pattern(
     r: &PatternReport,
     out: &Path,
@@ -368,33 +388,52 @@ pub fn write_pattern(
         out.join(format!("{stem}.json")),
         &pattern_json(r),
     )?];
-    // The map shows the modulated waves (P != 0) of the first such wave's kind.
+    // The maps show the modulated waves (P != 0) of the first such wave's kind.
     let Some(first) = r.waves.iter().find(|w| w.period_nm.is_some()) else {
         return Ok(written);
     };
-    let stem_path = out.join(stem);
-    write_density_plot(&density_plot(r, first.kind), &stem_path)?;
-    written.extend(figure_files(&stem_path));
+    for map in &r.maps.maps {
+        let stem_path = if r.maps.maps.len() == 1 {
+            out.join(stem)
+        } else {
+            out.join(format!("{stem}_{}", map.name))
+        };
+        write_density_plot(&density_plot(r, first.kind, map), &stem_path)?;
+        written.extend(figure_files(&stem_path));
+    }
     Ok(written)
 }
 
-/// The density map of the waves of one kind beside their Fourier peaks.
-fn density_plot(r: &PatternReport, kind: &str) -> DensityPlot {
-    let n = map_resolution(r.waves, r.fov);
+/// One density map of the waves of one kind beside their Fourier peaks.
+fn density_plot(r: &PatternReport, kind: &str, map: &MapField) -> DensityPlot {
+    let n = map.samples;
     let state = r
         .candidates
         .get(r.chosen)
         .map(|c| c.name.clone())
         .unwrap_or_default();
     let t = r.line.map(|l| mev_to_kelvin(l.t)).unwrap_or(f64::NAN);
+    let (what, density) = match map.envelope_above_per_nm {
+        Some(k) => (
+            format!(
+                "{kind} density envelope (waves shorter than {:.3} nm as their local amplitude)",
+                2.0 * std::f64::consts::PI / k
+            ),
+            envelope_map(r.waves, kind, map.fov_nm, n, k),
+        ),
+        None => (
+            format!("{kind} density modulation"),
+            density_map(r.waves, kind, map.fov_nm, n),
+        ),
+    };
     DensityPlot {
         title: format!(
-            "{kind} density modulation, channel {} ({state}), T = {t:.3} K",
+            "{what}, channel {} ({state}), T = {t:.3} K",
             channel(r).label()
         ),
-        fov_nm: r.fov,
+        fov_nm: map.fov_nm,
         n,
-        density: density_map(r.waves, kind, r.fov, n),
+        density,
         colorbar_label: format!("{kind} density modulation (1/nm^2)"),
         peaks: fourier_peaks(r.waves, kind),
         k_extent: 0.0,
