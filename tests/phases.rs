@@ -47,7 +47,7 @@ fn tricritical_lifshitz_and_first_order_line() {
     )
     .unwrap();
     let h_of = |x: f64| (x - 100.0) / 2.0 / TC0;
-    let tcp = d.tricritical.expect("a tricritical point");
+    let tcp = d.branches[0].tricritical.expect("a tricritical point");
     assert!(
         (tcp.t / TC0 - 0.5615).abs() < tol::SPECIAL_POINT,
         "T_tcp = {}",
@@ -58,7 +58,7 @@ fn tricritical_lifshitz_and_first_order_line() {
         "h_tcp = {}",
         h_of(tcp.value)
     );
-    let lp = d.lifshitz.expect("a Lifshitz point");
+    let lp = d.branches[0].lifshitz.expect("a Lifshitz point");
     assert!((lp.t / TC0 - 0.5615).abs() < tol::SPECIAL_POINT);
     assert!((h_of(lp.value) - h_of(tcp.value)).abs() < 1e-3);
     let (t_weak, h_weak) = nestor::solvers::tc::weak::lifshitz().unwrap();
@@ -66,7 +66,7 @@ fn tricritical_lifshitz_and_first_order_line() {
     assert!((h_of(lp.value) - h_weak).abs() < tol::SPECIAL_POINT);
     // The lowest row of the first-order line.
     let t_low = d.temperatures[0];
-    let (x, _) = d
+    let (x, _) = d.branches[0]
         .first_order
         .iter()
         .copied()
@@ -252,4 +252,93 @@ fn bad_phase_options_are_rejected() {
         assert!(err.contains(fragment), "{args:?}: {err}");
         assert!(out.is_empty() && !err.contains("panicked"));
     }
+}
+
+/// A sweep through perfect nesting (h.offset = 100 meV) has one first-order line, tricritical
+/// and Lifshitz point on each side, stored per branch. The old code merged both sides into one
+/// `first_order` list alternating between them ((99.742, 0.036 K), (100.258, 0.036 K),
+/// (99.745, 0.145 K), ...) and reported only the left-hand tricritical and Lifshitz points.
+/// The reference pair is symmetric in h: the two sides mirror each other about 100 meV
+/// (to the root tolerance, 1e-6 meV).
+#[test]
+fn sweep_through_nesting_keeps_the_sides_apart() {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    let dir = std::env::temp_dir().join(format!("nestor-branches-{}", std::process::id()));
+    let (code, out, err) = run(&[
+        "phases",
+        cfg,
+        "--vary",
+        "h.offset=99.6:100.4:17",
+        "--temperatures",
+        "11",
+        "--uniform-only",
+        "--structure-marks",
+        "0",
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap())
+            .unwrap();
+    let branches = v["branches"].as_array().expect("branches");
+    assert_eq!(branches.len(), 2);
+    let mut points = Vec::new();
+    for (b, side) in branches.iter().zip([-1.0, 1.0]) {
+        let first_order = b["lines"]["first_order"].as_array().unwrap();
+        assert!(!first_order.is_empty());
+        for p in first_order {
+            let x = p["value"].as_f64().unwrap();
+            assert!(
+                (x - 100.0) * side > 0.0,
+                "first-order point {x} on the wrong side"
+            );
+        }
+        for k in ["tricritical", "lifshitz"] {
+            let x = b[k]["value"].as_f64().unwrap_or_else(|| panic!("{k}: {b}"));
+            assert!((x - 100.0) * side > 0.0, "{k} at {x}");
+            points.push((k, x, b[k]["temperature_K"].as_f64().unwrap()));
+        }
+    }
+    for k in ["tricritical", "lifshitz"] {
+        let p: Vec<_> = points.iter().filter(|p| p.0 == k).collect();
+        assert!((p[0].1 + p[1].1 - 200.0).abs() < 1e-6, "{k}: {p:?}");
+        assert!((p[0].2 / p[1].2 - 1.0).abs() < 1e-6, "{k}: {p:?}");
+    }
+    assert!(v.get("lines").is_none() && v.get("tricritical").is_none());
+    assert_eq!(out.matches("tricritical point (h.offset from").count(), 2);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `phases --fixed-density` is refused (exit code 2) with a message naming what is missing and
+/// what works instead. The old code ran it and wrote Omega = NaN into every CSV row, with
+/// cells flipping between "undetermined" and "uniform" inside the ordered region.
+#[test]
+fn phases_at_fixed_density_is_refused() {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    let dir = std::env::temp_dir().join(format!("nestor-fixed-{}", std::process::id()));
+    let (code, out, err) = run(&[
+        "phases",
+        cfg,
+        "--vary",
+        "h.offset=100:100.3:3",
+        "--temperatures",
+        "3",
+        "--fixed-density",
+        "--out",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("--fixed-density") && err.contains("Maxwell"),
+        "{err}"
+    );
+    assert!(err.contains("solve --fixed-density"), "{err}");
+    assert!(out.is_empty() && !dir.join("phases_eh.csv").exists());
 }
