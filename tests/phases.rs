@@ -4,7 +4,7 @@
 mod common;
 
 use common::{nested_pair, tol};
-use nestor::config::parse_range;
+use nestor::config::{parse_range, ConfigSource};
 use nestor::solvers::ordered::OrderedSolver;
 use nestor::solvers::TcSolver;
 use nestor::sweeps::phase_map::{phase_diagram, PhaseOptions};
@@ -341,4 +341,39 @@ fn phases_at_fixed_density_is_refused() {
     );
     assert!(err.contains("solve --fixed-density"), "{err}");
     assert!(out.is_empty() && !dir.join("phases_eh.csv").exists());
+}
+
+/// A grid temperature on the uniform instability line itself, where the normal state is not a
+/// minimum (alpha < 0 by rounding) and the gap root lies below the gap grid's resolution, or an
+/// integral over the flat Omega does not converge, is solved a relative `AT_TC_NUDGE` away and
+/// says so in its note. The old code failed the cell there ("Omega has no minimum on the gap
+/// grid ... refine the grid", or here "shell integral ... not converged") and the whole `phases`
+/// run exited with code 1. The demonstration surface's XG channel at its uniform Tc is such a
+/// point (the solver alone still fails there).
+#[test]
+fn grid_temperature_at_tc_is_solved_nearby() {
+    let cfg = concat!(env!("CARGO_MANIFEST_DIR"), "/configs/demo_surface.toml");
+    let src = ConfigSource::load(std::path::Path::new(cfg)).unwrap();
+    let m = src.build(None).unwrap();
+    let (tc, os) = (TcSolver::default(), OrderedSolver::default());
+    let ch = &m.channels()[0];
+    let t_at = tc.uniform(&m, ch).unwrap().tc;
+    let old = os.solve(&m, ch, t_at, None);
+    assert!(old.is_err(), "{old:?}");
+    let grid = Grid::new(vec![parse_range("G.offset=188:188.001:2").unwrap()]).unwrap();
+    let opts = PhaseOptions {
+        channel: 0,
+        t_max: t_at,
+        temperatures: 2,
+        modulated: false,
+        fixed_density: false,
+        threads: None,
+        progress: false,
+    };
+    let d = phase_diagram(&src, &m, &grid, &opts, &tc, &os).unwrap();
+    assert_eq!(d.temperatures[1], t_at);
+    let column = d.columns[0].as_ref().unwrap();
+    let cell = column.cells[1].as_ref().expect("the cell at Tc is solved");
+    assert!(cell.note.as_deref().unwrap().contains("instability line"));
+    assert!(cell.delta < 1e-2 * t_at, "Delta = {}", cell.delta);
 }

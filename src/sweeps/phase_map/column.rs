@@ -59,29 +59,37 @@ fn solve_cell(
     Ok(st)
 }
 
-/// The states at one cell; a temperature on the instability line (no minimum resolved) is
-/// solved a relative [`AT_TC_NUDGE`] above (then below) it, and the returned note says so.
+/// The states at one cell. A temperature within a relative [`AT_TC_NUDGE`] of an instability
+/// temperature in `lines` (meV), where Omega is flat to fourth order and the solver may find
+/// no minimum or no converged integral, is solved a relative [`AT_TC_NUDGE`] above (then below)
+/// it when it fails there, and the returned note says so.
 fn solve_cell_near_tc(
     os: &OrderedSolver,
-    m: &Model,
-    ch: &Channel,
+    (m, ch): (&Model, &Channel),
     t: f64,
+    lines: [f64; 2],
     q_scale: Option<f64>,
     hint: [f64; 2],
 ) -> Result<(OrderedStates, Option<String>), NumericalError> {
     let first = match solve_cell(os, m, ch, t, q_scale, hint) {
-        Err(NumericalError::NoMinimum(e)) => e,
-        other => return other.map(|st| (st, None)),
+        Ok(st) => return Ok((st, None)),
+        Err(e) => e,
     };
+    let on_line = lines
+        .iter()
+        .any(|&l| l > 0.0 && (t - l).abs() <= AT_TC_NUDGE * l);
+    if !on_line {
+        return Err(first);
+    }
     for factor in [1.0 + AT_TC_NUDGE, 1.0 - AT_TC_NUDGE] {
         if let Ok(st) = solve_cell(os, m, ch, t * factor, q_scale, hint) {
             let note = format!(
-                "T lies on the instability line (no minimum resolved: {first}); solved at T x {factor}"
+                "T lies on the instability line, where the solver failed; solved at T x {factor}"
             );
             return Ok((st, Some(note)));
         }
     }
-    Err(NumericalError::NoMinimum(first))
+    Err(first)
 }
 
 /// The grid cell of the chosen grand-canonical state.
@@ -142,7 +150,11 @@ pub(super) fn column(
             let want_pw = opts.modulated && modulated_above && t < md.tc.tc;
             let qs =
                 want_pw.then(|| plane_wave_q_scale(m, ch, t).max(2.0 * md.q[0].hypot(md.q[1])));
-            solve_cell_near_tc(os, m, ch, t, qs, md.q)
+            let lines = [
+                t_u,
+                md.tc.tc * f64::from(md.tc.status == TcStatus::Unstable),
+            ];
+            solve_cell_near_tc(os, (m, ch), t, lines, qs, md.q)
                 .map(|(st, note)| cell(&st, note))
                 .map_err(NestorError::from)
         })

@@ -6,6 +6,9 @@
 use super::Column;
 use crate::error::NestorError;
 
+/// Points (parameter, T meV) of a line.
+pub(super) type Points = Vec<(f64, f64)>;
+
 /// A column, solved or not.
 pub(super) type ColumnResult = Result<Column, NestorError>;
 
@@ -53,7 +56,7 @@ pub(super) fn branch_bounds(columns: &[ColumnResult]) -> Vec<[usize; 2]> {
 pub(super) fn first_order_and_spinodal(
     columns: &[ColumnResult],
     temps: &[f64],
-) -> (Vec<(f64, f64)>, Vec<(f64, f64)>) {
+) -> (Points, Points) {
     let mut first_order = Vec::new();
     let mut spinodal = Vec::new();
     for (j, &t) in temps.iter().enumerate() {
