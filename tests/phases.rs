@@ -92,6 +92,26 @@ fn run(args: &[&str]) -> (i32, String, String) {
     )
 }
 
+/// Runs `phases` on the reference pair with `args` after the configuration, writing into a
+/// fresh directory named after `tag`: exit code, standard output and error, the directory.
+fn run_phases(tag: &str, args: &[&str]) -> (i32, String, String, std::path::PathBuf) {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    let dir = std::env::temp_dir().join(format!("nestor-{tag}-{}", std::process::id()));
+    let mut all = vec!["phases", cfg];
+    all.extend_from_slice(args);
+    all.extend(["--out", dir.to_str().unwrap()]);
+    let (code, out, err) = run(&all);
+    (code, out, err, dir)
+}
+
+/// The JSON report of `phases` in `dir`.
+fn phases_json(dir: &std::path::Path) -> serde_json::Value {
+    serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap()).unwrap()
+}
+
 /// `solve --json` lists every solution with the keys of the interface and marks the chosen one;
 /// bad temperatures are rejected with exit code 2.
 #[test]
@@ -139,26 +159,18 @@ fn solve_command_outputs() {
 /// the tricritical and Lifshitz objects.
 #[test]
 fn phases_command_outputs() {
-    let cfg = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/configs/reference/nested_parabolic.toml"
-    );
-    let dir = std::env::temp_dir().join(format!("nestor-phases-{}", std::process::id()));
-    let (code, _, err) = run(&[
+    let (code, _, err, dir) = run_phases(
         "phases",
-        cfg,
-        "--vary",
-        "h.offset=100.18:100.30:7",
-        "--temperatures",
-        "4",
-        "--uniform-only",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
+        &[
+            "--vary",
+            "h.offset=100.18:100.30:7",
+            "--temperatures",
+            "4",
+            "--uniform-only",
+        ],
+    );
     assert_eq!(code, 0, "{err}");
-    let v: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap())
-            .unwrap();
+    let v = phases_json(&dir);
     for k in [
         "uniform_instability",
         "modulated_instability",
@@ -262,28 +274,20 @@ fn bad_phase_options_are_rejected() {
 /// (to the root tolerance, 1e-6 meV).
 #[test]
 fn sweep_through_nesting_keeps_the_sides_apart() {
-    let cfg = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/configs/reference/nested_parabolic.toml"
+    let (code, out, err, dir) = run_phases(
+        "branches",
+        &[
+            "--vary",
+            "h.offset=99.6:100.4:17",
+            "--temperatures",
+            "11",
+            "--uniform-only",
+            "--structure-marks",
+            "0",
+        ],
     );
-    let dir = std::env::temp_dir().join(format!("nestor-branches-{}", std::process::id()));
-    let (code, out, err) = run(&[
-        "phases",
-        cfg,
-        "--vary",
-        "h.offset=99.6:100.4:17",
-        "--temperatures",
-        "11",
-        "--uniform-only",
-        "--structure-marks",
-        "0",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
     assert_eq!(code, 0, "{err}");
-    let v: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap())
-            .unwrap();
+    let v = phases_json(&dir);
     let branches = v["branches"].as_array().expect("branches");
     assert_eq!(branches.len(), 2);
     let mut points = Vec::new();
@@ -318,22 +322,16 @@ fn sweep_through_nesting_keeps_the_sides_apart() {
 /// cells flipping between "undetermined" and "uniform" inside the ordered region.
 #[test]
 fn phases_at_fixed_density_is_refused() {
-    let cfg = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/configs/reference/nested_parabolic.toml"
+    let (code, out, err, dir) = run_phases(
+        "fixed",
+        &[
+            "--vary",
+            "h.offset=100:100.3:3",
+            "--temperatures",
+            "3",
+            "--fixed-density",
+        ],
     );
-    let dir = std::env::temp_dir().join(format!("nestor-fixed-{}", std::process::id()));
-    let (code, out, err) = run(&[
-        "phases",
-        cfg,
-        "--vary",
-        "h.offset=100:100.3:3",
-        "--temperatures",
-        "3",
-        "--fixed-density",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
     assert_eq!(code, 2, "{err}");
     assert!(
         err.contains("--fixed-density") && err.contains("Maxwell"),
