@@ -135,7 +135,7 @@ pub struct PhaseOptions {
 }
 
 /// Why the phase diagram does not take a fixed density.
-pub const FIXED_DENSITY_REFUSAL: &str = "phases --fixed-density is not supported: at fixed density the ordered region needs the Maxwell construction between ordered states of different density, which is not implemented; map the grand-canonical diagram (without --fixed-density), or solve single points at fixed density with `nestor solve --fixed-density`";
+pub const FIXED_DENSITY_REFUSAL: &str = "phases --fixed-density is not supported: at fixed density the ordered region needs the Maxwell construction between ordered states of different density, which is not implemented; map the grand-canonical diagram (without --fixed-density), or solve single points at fixed density with `nestor solve --fixed-density` (normal, uniform or normal-uniform coexistence; it reports \"undetermined\" where ordered states of different density would separate)";
 
 /// The temperature axis (meV): `n` rows up to `t_max`, the lowest at a quarter step above
 /// T = 0, where Omega at q != 0 has kinks in angle.
