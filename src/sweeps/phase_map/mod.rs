@@ -1,10 +1,10 @@
 //! The phase diagram of one channel in the (parameter, temperature) plane: per parameter value
 //! (in parallel) the instability lines and the chosen state on a temperature grid
-//! ([`column`]); the axis split into branches where it crosses perfect nesting; then per branch
+//! (`column`); the axis split into branches where it crosses perfect nesting; then per branch
 //! the first-order line (equal Omega of the uniform and normal minima), the spinodal where the
-//! uniform minimum disappears ([`lines`]), and the tricritical (beta = 0) and Lifshitz
+//! uniform minimum disappears (`lines`), and the tricritical (beta = 0) and Lifshitz
 //! (q-curvature = 0) points on the uniform instability line, each refined in the parameter by
-//! Brent's method ([`special`]). Theory: [`crate::theory::landau`].
+//! Brent's method (`special`). Theory: [`crate::theory::landau`].
 
 mod column;
 mod lines;
