@@ -3,7 +3,7 @@
 mod common;
 
 use common::nested_pair_fixed_g;
-use nestor::solvers::canonical::{canonical_state, normal_carriers};
+use nestor::solvers::canonical::{canonical_state, normal_carriers, CanonicalKind};
 use nestor::solvers::ordered::OrderedSolver;
 
 /// At T -> 0 the gapped uniform state of the equal-mass pair is exactly compensated (net carrier
@@ -23,7 +23,7 @@ fn clogston_jump_becomes_coexistence_at_fixed_density() {
     let dos = m.pockets()[0].dos() / 2.0;
     assert!((normal_carriers(&m, 0.0) / (-4.0 * dos * 0.5 * d0) - 1.0).abs() < 1e-9);
     let st = canonical_state(&os, &m, 0, 1e-3 * tc0, 2.0 * d0).unwrap();
-    assert_eq!(st.state, "coexistence");
+    assert_eq!(st.state, CanonicalKind::Coexistence);
     let [nn, nu] = st.coexistence_densities.unwrap();
     assert!(
         (nn / (-4.0 * dos * d0 / 2f64.sqrt()) - 1.0).abs() < 1e-3,
@@ -34,5 +34,5 @@ fn clogston_jump_becomes_coexistence_at_fixed_density() {
     assert!((x - (1.0 - 0.5 * 2f64.sqrt())).abs() < 1e-3, "fraction {x}");
     let (_, m) = nested_pair_fixed_g(&m0, 5.0, 100.0, 0.9 * d0);
     let st = canonical_state(&os, &m, 0, 1e-3 * tc0, 2.0 * d0).unwrap();
-    assert_eq!(st.state, "normal");
+    assert_eq!(st.state, CanonicalKind::Normal);
 }

@@ -4,7 +4,7 @@
 mod common;
 
 use common::{nested_pair, tol};
-use nestor::config::parse_range;
+use nestor::config::{parse_range, ConfigSource};
 use nestor::solvers::ordered::OrderedSolver;
 use nestor::solvers::TcSolver;
 use nestor::sweeps::phase_map::{phase_diagram, PhaseOptions};
@@ -47,7 +47,7 @@ fn tricritical_lifshitz_and_first_order_line() {
     )
     .unwrap();
     let h_of = |x: f64| (x - 100.0) / 2.0 / TC0;
-    let tcp = d.tricritical.expect("a tricritical point");
+    let tcp = d.branches[0].tricritical.expect("a tricritical point");
     assert!(
         (tcp.t / TC0 - 0.5615).abs() < tol::SPECIAL_POINT,
         "T_tcp = {}",
@@ -58,7 +58,7 @@ fn tricritical_lifshitz_and_first_order_line() {
         "h_tcp = {}",
         h_of(tcp.value)
     );
-    let lp = d.lifshitz.expect("a Lifshitz point");
+    let lp = d.branches[0].lifshitz.expect("a Lifshitz point");
     assert!((lp.t / TC0 - 0.5615).abs() < tol::SPECIAL_POINT);
     assert!((h_of(lp.value) - h_of(tcp.value)).abs() < 1e-3);
     let (t_weak, h_weak) = nestor::solvers::tc::weak::lifshitz().unwrap();
@@ -66,7 +66,7 @@ fn tricritical_lifshitz_and_first_order_line() {
     assert!((h_of(lp.value) - h_weak).abs() < tol::SPECIAL_POINT);
     // The lowest row of the first-order line.
     let t_low = d.temperatures[0];
-    let (x, _) = d
+    let (x, _) = d.branches[0]
         .first_order
         .iter()
         .copied()
@@ -90,6 +90,26 @@ fn run(args: &[&str]) -> (i32, String, String) {
         String::from_utf8_lossy(&out.stdout).into_owned(),
         String::from_utf8_lossy(&out.stderr).into_owned(),
     )
+}
+
+/// Runs `phases` on the reference pair with `args` after the configuration, writing into a
+/// fresh directory named after `tag`: exit code, standard output and error, the directory.
+fn run_phases(tag: &str, args: &[&str]) -> (i32, String, String, std::path::PathBuf) {
+    let cfg = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/configs/reference/nested_parabolic.toml"
+    );
+    let dir = std::env::temp_dir().join(format!("nestor-{tag}-{}", std::process::id()));
+    let mut all = vec!["phases", cfg];
+    all.extend_from_slice(args);
+    all.extend(["--out", dir.to_str().unwrap()]);
+    let (code, out, err) = run(&all);
+    (code, out, err, dir)
+}
+
+/// The JSON report of `phases` in `dir`.
+fn phases_json(dir: &std::path::Path) -> serde_json::Value {
+    serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap()).unwrap()
 }
 
 /// `solve --json` lists every solution with the keys of the interface and marks the chosen one;
@@ -139,26 +159,18 @@ fn solve_command_outputs() {
 /// the tricritical and Lifshitz objects.
 #[test]
 fn phases_command_outputs() {
-    let cfg = concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/configs/reference/nested_parabolic.toml"
-    );
-    let dir = std::env::temp_dir().join(format!("nestor-phases-{}", std::process::id()));
-    let (code, _, err) = run(&[
+    let (code, _, err, dir) = run_phases(
         "phases",
-        cfg,
-        "--vary",
-        "h.offset=100.18:100.30:7",
-        "--temperatures",
-        "4",
-        "--uniform-only",
-        "--out",
-        dir.to_str().unwrap(),
-    ]);
+        &[
+            "--vary",
+            "h.offset=100.18:100.30:7",
+            "--temperatures",
+            "4",
+            "--uniform-only",
+        ],
+    );
     assert_eq!(code, 0, "{err}");
-    let v: serde_json::Value =
-        serde_json::from_str(&std::fs::read_to_string(dir.join("phases_eh.json")).unwrap())
-            .unwrap();
+    let v = phases_json(&dir);
     for k in [
         "uniform_instability",
         "modulated_instability",
@@ -252,4 +264,114 @@ fn bad_phase_options_are_rejected() {
         assert!(err.contains(fragment), "{args:?}: {err}");
         assert!(out.is_empty() && !err.contains("panicked"));
     }
+}
+
+/// A sweep through perfect nesting (h.offset = 100 meV) has one first-order line, tricritical
+/// and Lifshitz point on each side, stored per branch. The old code merged both sides into one
+/// `first_order` list alternating between them ((99.742, 0.036 K), (100.258, 0.036 K),
+/// (99.745, 0.145 K), ...) and reported only the left-hand tricritical and Lifshitz points.
+/// The reference pair is symmetric in h: the two sides mirror each other about 100 meV
+/// (to the root tolerance, 1e-6 meV).
+#[test]
+fn sweep_through_nesting_keeps_the_sides_apart() {
+    let (code, out, err, dir) = run_phases(
+        "branches",
+        &[
+            "--vary",
+            "h.offset=99.6:100.4:17",
+            "--temperatures",
+            "11",
+            "--uniform-only",
+            "--structure-marks",
+            "0",
+        ],
+    );
+    assert_eq!(code, 0, "{err}");
+    let v = phases_json(&dir);
+    let branches = v["branches"].as_array().expect("branches");
+    assert_eq!(branches.len(), 2);
+    let mut points = Vec::new();
+    for (b, side) in branches.iter().zip([-1.0, 1.0]) {
+        let first_order = b["lines"]["first_order"].as_array().unwrap();
+        assert!(!first_order.is_empty());
+        for p in first_order {
+            let x = p["value"].as_f64().unwrap();
+            assert!(
+                (x - 100.0) * side > 0.0,
+                "first-order point {x} on the wrong side"
+            );
+        }
+        for k in ["tricritical", "lifshitz"] {
+            let x = b[k]["value"].as_f64().unwrap_or_else(|| panic!("{k}: {b}"));
+            assert!((x - 100.0) * side > 0.0, "{k} at {x}");
+            points.push((k, x, b[k]["temperature_K"].as_f64().unwrap()));
+        }
+    }
+    for k in ["tricritical", "lifshitz"] {
+        let p: Vec<_> = points.iter().filter(|p| p.0 == k).collect();
+        assert!((p[0].1 + p[1].1 - 200.0).abs() < 1e-6, "{k}: {p:?}");
+        assert!((p[0].2 / p[1].2 - 1.0).abs() < 1e-6, "{k}: {p:?}");
+    }
+    assert!(v.get("lines").is_none() && v.get("tricritical").is_none());
+    assert_eq!(out.matches("tricritical point (h.offset from").count(), 2);
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+/// `phases --fixed-density` is refused (exit code 2) with a message naming what is missing and
+/// what works instead. The old code ran it and wrote Omega = NaN into every CSV row, with
+/// cells flipping between "undetermined" and "uniform" inside the ordered region.
+#[test]
+fn phases_at_fixed_density_is_refused() {
+    let (code, out, err, dir) = run_phases(
+        "fixed",
+        &[
+            "--vary",
+            "h.offset=100:100.3:3",
+            "--temperatures",
+            "3",
+            "--fixed-density",
+        ],
+    );
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("--fixed-density") && err.contains("Maxwell"),
+        "{err}"
+    );
+    assert!(err.contains("solve --fixed-density"), "{err}");
+    assert!(out.is_empty() && !dir.join("phases_eh.csv").exists());
+}
+
+/// A grid temperature on the uniform instability line itself, where the normal state is not a
+/// minimum (alpha < 0 by rounding) and the gap root lies below the gap grid's resolution, or an
+/// integral over the flat Omega does not converge, is solved a relative `AT_TC_NUDGE` away and
+/// says so in its note. The old code failed the cell there ("Omega has no minimum on the gap
+/// grid ... refine the grid", or here "shell integral ... not converged") and the whole `phases`
+/// run exited with code 1. The demonstration surface's XG channel at its uniform Tc is such a
+/// point (the solver alone still fails there).
+#[test]
+fn grid_temperature_at_tc_is_solved_nearby() {
+    let cfg = concat!(env!("CARGO_MANIFEST_DIR"), "/configs/demo_surface.toml");
+    let src = ConfigSource::load(std::path::Path::new(cfg)).unwrap();
+    let m = src.build(None).unwrap();
+    let (tc, os) = (TcSolver::default(), OrderedSolver::default());
+    let ch = &m.channels()[0];
+    let t_at = tc.uniform(&m, ch).unwrap().tc;
+    let old = os.solve(&m, ch, t_at, None);
+    assert!(old.is_err(), "{old:?}");
+    let grid = Grid::new(vec![parse_range("G.offset=188:188.001:2").unwrap()]).unwrap();
+    let opts = PhaseOptions {
+        channel: 0,
+        t_max: t_at,
+        temperatures: 2,
+        modulated: false,
+        fixed_density: false,
+        threads: None,
+        progress: false,
+    };
+    let d = phase_diagram(&src, &m, &grid, &opts, &tc, &os).unwrap();
+    assert_eq!(d.temperatures[1], t_at);
+    let column = d.columns[0].as_ref().unwrap();
+    let cell = column.cells[1].as_ref().expect("the cell at Tc is solved");
+    assert!(cell.note.as_deref().unwrap().contains("instability line"));
+    assert!(cell.delta < 1e-2 * t_at, "Delta = {}", cell.delta);
 }

@@ -11,7 +11,7 @@ use nestor::solvers::pattern::PatternSolver;
 use nestor::solvers::TcSolver;
 use nestor::sweeps::defaults::default_t_max;
 use nestor::sweeps::phase_map::{
-    mark_structures, phase_diagram, PhaseDiagram, PhaseOptions, SpecialPoint,
+    mark_structures, phase_diagram, PhaseDiagram, PhaseOptions, SpecialPoint, FIXED_DENSITY_REFUSAL,
 };
 use nestor::sweeps::Grid;
 use std::io::IsTerminal;
@@ -39,8 +39,9 @@ pub struct PhasesArgs {
     /// Skip the plane-wave states (faster; the modulated instability line is still drawn).
     #[arg(long)]
     pub uniform_only: bool,
-    /// Hold the net carrier density fixed (that of the configuration's normal state at T = 0)
-    /// instead of the chemical potential: uniform and normal states, with coexistence regions.
+    /// Not supported (refused with exit code 2): the phase diagram at fixed net carrier density
+    /// needs the Maxwell construction between ordered states of different density. Use
+    /// `nestor solve --fixed-density` at single points.
     #[arg(long)]
     pub fixed_density: bool,
     /// Points of the modulated instability line at which the multi-wavevector structures are
@@ -72,6 +73,9 @@ pub fn run_on(
     grid: &Grid,
     a: &PhasesArgs,
 ) -> Result<Outcome, Failure> {
+    if a.fixed_density {
+        return Err(Failure::Input(FIXED_DENSITY_REFUSAL.into()));
+    }
     let channel = channel_index(model, a.channel.as_ref())?;
     if model.channels().is_empty() {
         return Err(Failure::Input(format!(
@@ -92,13 +96,13 @@ pub fn run_on(
         channel,
         t_max,
         temperatures: a.temperatures,
-        modulated: !a.uniform_only && !a.fixed_density,
-        fixed_density: a.fixed_density,
+        modulated: !a.uniform_only,
+        fixed_density: false,
         threads: a.threads,
         progress: std::io::stderr().is_terminal(),
     };
     let mut d = phase_diagram(src, model, grid, &opts, &tc, &OrderedSolver::default())?;
-    if !a.fixed_density && a.structure_marks > 0 {
+    if a.structure_marks > 0 {
         mark_structures(
             &nestor::sweeps::Sweep::new(src, model, grid)?,
             &mut d,
@@ -148,20 +152,31 @@ fn t_max(
     }
 }
 
-/// Prints the tricritical and Lifshitz points (K) and warns of failed special-point searches.
+/// Prints the tricritical and Lifshitz points (K) of every branch (each side of perfect
+/// nesting, named by its range when there are several) and warns of failed special-point
+/// searches.
 fn print_special_points(grid: &Grid, d: &PhaseDiagram) {
-    print_point(
-        grid,
-        "tricritical point",
-        d.tricritical,
-        " (preempted by the modulated state)",
-    );
-    print_point(
-        grid,
-        "Lifshitz point",
-        d.lifshitz,
-        " (the uniform line is not second order there)",
-    );
+    let path = grid.axes[0].path();
+    for b in &d.branches {
+        let side = if d.branches.len() > 1 {
+            let [lo, hi] = [grid.values(b.columns[0])[0], grid.values(b.columns[1])[0]];
+            format!(" ({path} from {lo} to {hi})")
+        } else {
+            String::new()
+        };
+        print_point(
+            grid,
+            &format!("tricritical point{side}"),
+            b.tricritical,
+            " (preempted by the modulated state)",
+        );
+        print_point(
+            grid,
+            &format!("Lifshitz point{side}"),
+            b.lifshitz,
+            " (the uniform line is not second order there)",
+        );
+    }
     for f in &d.special_point_failures {
         eprintln!("nestor: warning: {f}");
     }

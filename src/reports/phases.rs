@@ -8,6 +8,7 @@ use super::files::{failed_cells, figure_files, write_csv, write_json};
 use super::scan::{axis_label, key_unit};
 use super::tables::header;
 use crate::config::ConfigSource;
+use crate::error::NestorError;
 use crate::model::Model;
 use crate::solvers::ordered::StateKind;
 use crate::sweeps::phase_map::{Cell, Column, PhaseDiagram, SpecialPoint};
@@ -58,7 +59,7 @@ pub fn write_phases(
         grid,
         diagram: d,
     };
-    let lines = PhaseLines::new(d);
+    let lines = PhaseLines::new(d, grid);
     let csv = write_csv(
         out.join(format!("{stem}.csv")),
         csv_columns(grid),
@@ -99,30 +100,29 @@ fn csv_rows(p: &PhaseInputs) -> Vec<Vec<String>> {
                     let lead = [format!("{}", c.value), format!("{}", mev_to_kelvin(t))];
                     let rest: Vec<String> = match cell {
                         Ok(x) => cell_fields(x, ns),
-                        Err(r) => failed_cells(6, r).collect(),
+                        Err(r) => failed_cells(6, &r.to_string()).collect(),
                     };
                     rows.push(lead.into_iter().chain(rest).collect());
                 }
             }
             Err(r) => {
                 let lead = [String::new(), String::new()];
-                rows.push(lead.into_iter().chain(failed_cells(6, r)).collect());
+                rows.push(
+                    lead.into_iter()
+                        .chain(failed_cells(6, &r.to_string()))
+                        .collect(),
+                );
             }
         }
     }
     rows
 }
 
-/// The CSV cells of a solved grid cell after its parameter and temperature (`ns` spin channels).
+/// The CSV cells of a solved grid cell after its parameter and temperature (`ns` spin
+/// channels); the last (reason) holds the cell's note, if any.
 fn cell_fields(x: &Cell, ns: f64) -> Vec<String> {
     vec![
-        if x.undetermined {
-            "undetermined".into()
-        } else if let Some(f) = x.coexistence {
-            format!("coexistence (ordered fraction {f:.4})")
-        } else {
-            format!("{:?}", x.state).to_lowercase()
-        },
+        format!("{:?}", x.state).to_lowercase(),
         format!("{}", x.delta),
         format!("{}", x.q[0]),
         format!("{}", x.q[1]),
@@ -131,12 +131,14 @@ fn cell_fields(x: &Cell, ns: f64) -> Vec<String> {
             .map(|o| format!("{}", ns * o))
             .unwrap_or_default(),
         format!("{}", x.normal_minimum),
-        String::new(),
+        x.note.clone().unwrap_or_default(),
     ]
 }
 
-/// The lines of a phase diagram, temperatures in K.
-struct PhaseLines {
+/// The lines and special points of one branch of a phase diagram, temperatures in K.
+struct BranchLines {
+    /// The parameter range of the branch (its first and last column).
+    range: [f64; 2],
     /// The uniform instability (parameter, T, second order).
     uniform: Vec<(f64, f64, bool)>,
     /// The modulated instability where the modulated state wins.
@@ -145,40 +147,57 @@ struct PhaseLines {
     first_order: Vec<(f64, f64)>,
     /// Where the uniform state's minimum disappears.
     spinodal: Vec<(f64, f64)>,
+    tricritical: Option<SpecialPoint>,
+    lifshitz: Option<SpecialPoint>,
+}
+
+/// The lines of every branch of a phase diagram.
+struct PhaseLines {
+    branches: Vec<BranchLines>,
 }
 
 impl PhaseLines {
-    fn new(d: &PhaseDiagram) -> Self {
-        let ok = solved_columns(d);
+    fn new(d: &PhaseDiagram, grid: &Grid) -> Self {
         let kelvin = |l: &[(f64, f64)]| -> Vec<(f64, f64)> {
             l.iter().map(|&(x, t)| (x, mev_to_kelvin(t))).collect()
         };
-        PhaseLines {
-            uniform: ok
-                .iter()
-                .filter(|c| c.t_uniform > 0.0)
-                .map(|c| {
-                    (
-                        c.value,
-                        mev_to_kelvin(c.t_uniform),
-                        c.beta_uniform.unwrap_or(0.0) > 0.0,
-                    )
-                })
-                .collect(),
-            modulated: ok
-                .iter()
-                .filter(|c| modulated_wins(c))
-                .map(|c| (c.value, mev_to_kelvin(c.t_modulated)))
-                .collect(),
-            first_order: kelvin(&d.first_order),
-            spinodal: kelvin(&d.spinodal),
-        }
+        let branches = d
+            .branches
+            .iter()
+            .map(|b| {
+                let ok = solved_columns(&d.columns[b.columns[0]..=b.columns[1]]);
+                BranchLines {
+                    range: [grid.values(b.columns[0])[0], grid.values(b.columns[1])[0]],
+                    uniform: ok
+                        .iter()
+                        .filter(|c| c.t_uniform > 0.0)
+                        .map(|c| {
+                            (
+                                c.value,
+                                mev_to_kelvin(c.t_uniform),
+                                c.beta_uniform.unwrap_or(0.0) > 0.0,
+                            )
+                        })
+                        .collect(),
+                    modulated: ok
+                        .iter()
+                        .filter(|c| modulated_wins(c))
+                        .map(|c| (c.value, mev_to_kelvin(c.t_modulated)))
+                        .collect(),
+                    first_order: kelvin(&b.first_order),
+                    spinodal: kelvin(&b.spinodal),
+                    tricritical: b.tricritical,
+                    lifshitz: b.lifshitz,
+                }
+            })
+            .collect();
+        PhaseLines { branches }
     }
 }
 
 /// The columns that were solved.
-fn solved_columns(d: &PhaseDiagram) -> Vec<&Column> {
-    d.columns.iter().filter_map(|c| c.as_ref().ok()).collect()
+fn solved_columns(columns: &[Result<Column, NestorError>]) -> Vec<&Column> {
+    columns.iter().filter_map(|c| c.as_ref().ok()).collect()
 }
 
 /// Whether the modulated state wins on a column's instability line.
@@ -193,7 +212,19 @@ fn points_json(points: impl Iterator<Item = (f64, f64)>) -> Vec<Value> {
         .collect()
 }
 
-/// The JSON report of a phase diagram.
+/// The lines of one branch as JSON.
+fn lines_json(b: &BranchLines) -> Value {
+    json!({
+        "uniform_instability": b.uniform.iter().map(|&(x, t, so)| json!({"value": x, "temperature_K": t, "second_order": so})).collect::<Vec<_>>(),
+        "modulated_instability": points_json(b.modulated.iter().copied()),
+        "first_order": points_json(b.first_order.iter().copied()),
+        "spinodal_uniform": points_json(b.spinodal.iter().copied()),
+    })
+}
+
+/// The JSON report of a phase diagram: one branch keeps its lines and special points at the
+/// top level; several (a sweep through perfect nesting) are listed under `branches`, each with
+/// its parameter range and the same keys.
 fn phases_json(p: &PhaseInputs, lines: &PhaseLines) -> Value {
     let (d, axis) = (p.diagram, &p.grid.axes[0]);
     let mut v = header(p.src, "phases");
@@ -204,44 +235,55 @@ fn phases_json(p: &PhaseInputs, lines: &PhaseLines) -> Value {
         .iter()
         .map(|&t| mev_to_kelvin(t))
         .collect::<Vec<_>>());
-    v["lines"] = json!({
-        "uniform_instability": lines.uniform.iter().map(|&(x, t, so)| json!({"value": x, "temperature_K": t, "second_order": so})).collect::<Vec<_>>(),
-        "modulated_instability": points_json(lines.modulated.iter().copied()),
-        "first_order": points_json(lines.first_order.iter().copied()),
-        "spinodal_uniform": points_json(lines.spinodal.iter().copied()),
-    });
-    v["tricritical"] = special(&d.tricritical);
-    v["lifshitz"] = special(&d.lifshitz);
+    match lines.branches.as_slice() {
+        [b] => {
+            v["lines"] = lines_json(b);
+            v["tricritical"] = special(&b.tricritical);
+            v["lifshitz"] = special(&b.lifshitz);
+        }
+        branches => {
+            v["branches"] = branches
+                .iter()
+                .map(|b| json!({"from": b.range[0], "to": b.range[1], "lines": lines_json(b), "tricritical": special(&b.tricritical), "lifshitz": special(&b.lifshitz)}))
+                .collect();
+        }
+    }
     v["special_point_failures"] = json!(d.special_point_failures);
     v["structure_marks"] = d
         .structure_marks
         .iter()
         .map(|m| json!({"value": m.value, "temperature_K": mev_to_kelvin(m.t), "preferred": m.preferred, "wavevectors": m.wavevectors, "first_order": m.first_order, "failure": m.failure}))
         .collect();
-    v["note"] = json!("uniform_instability is the line g chi(0, T) = 1 (second_order where beta > 0); the normal state's spinodal is that line, the uniform state's spinodal is where its minimum disappears; omega totals over spin channels");
-    v["columns"] = Value::Array(
-        d.columns
-            .iter()
-            .map(|c| column_json(c.as_ref().map_err(String::as_str)))
-            .collect(),
-    );
+    v["note"] = if lines.branches.len() > 1 {
+        json!(format!("{NOTE}{BRANCHES_NOTE}"))
+    } else {
+        json!(NOTE)
+    };
+    v["columns"] = Value::Array(d.columns.iter().map(column_json).collect());
     v
 }
 
+/// The note of the phase JSON.
+const NOTE: &str = "uniform_instability is the line g chi(0, T) = 1 (second_order where beta > 0); the normal state's spinodal is that line, the uniform state's spinodal is where its minimum disappears; omega totals over spin channels";
+
+/// Appended to [`NOTE`] when the sweep crosses perfect nesting.
+const BRANCHES_NOTE: &str = "; the sweep crosses perfect nesting (the mismatch changes sign): the lines and special points of each side are under branches";
+
 /// One column of the diagram as JSON: the state and gap of each cell.
-fn column_json(c: Result<&Column, &str>) -> Value {
+fn column_json(c: &Result<Column, NestorError>) -> Value {
     match c {
         Ok(c) => json!({
             "value": c.value,
             "states": c.cells.iter().map(|x| match x { Ok(x) => json!(x.state), Err(_) => json!("failed") }).collect::<Vec<_>>(),
             "delta_meV": c.cells.iter().map(|x| x.as_ref().map(|x| x.delta).ok()).collect::<Vec<_>>(),
         }),
-        Err(r) => json!({"status": "failed", "reason": r}),
+        Err(r) => json!({"status": "failed", "reason": r.to_string()}),
     }
 }
 
 /// The phase figure: regions shaded, second-order lines solid, first-order dashed, the
-/// metastability band, special points marked, preferred structures labelled.
+/// metastability band, special points marked, preferred structures labelled; the first-order
+/// line, the band and the special points drawn per branch.
 fn phase_plot(p: &PhaseInputs, lines: &PhaseLines) -> RegionPlot {
     let d = p.diagram;
     let (xs, ys, regions) = region_grid(p);
@@ -259,12 +301,19 @@ fn phase_plot(p: &PhaseInputs, lines: &PhaseLines) -> RegionPlot {
             "normal".into(),
             "uniform order".into(),
             "modulated (plane wave)".into(),
-            "coexistence (fixed density)".into(),
-            "phase separation, not constructed".into(),
         ],
         series: phase_series(d, lines),
-        bands: metastable_band(lines).into_iter().collect(),
-        markers: special_markers(d),
+        bands: lines
+            .branches
+            .iter()
+            .filter_map(metastable_band)
+            .enumerate()
+            .map(|(i, mut b)| {
+                b.label = legend_once(&b.label, i == 0);
+                b
+            })
+            .collect(),
+        markers: special_markers(lines),
         // The preferred structure where a multi-wavevector state wins on the modulated line.
         labels: d
             .structure_marks
@@ -280,7 +329,7 @@ fn phase_plot(p: &PhaseInputs, lines: &PhaseLines) -> RegionPlot {
 }
 
 /// Cell centres (parameter, T in K) and the region index of every cell (row-major, T outer):
-/// the state, 3 for coexistence, 4 for undetermined, `None` for a failed cell.
+/// the state, `None` for a failed cell.
 fn region_grid(p: &PhaseInputs) -> (Vec<f64>, Vec<f64>, Vec<Option<usize>>) {
     let d = p.diagram;
     let xs: Vec<f64> = d
@@ -299,13 +348,7 @@ fn region_grid(p: &PhaseInputs) -> (Vec<f64>, Vec<f64>, Vec<Option<usize>>) {
         let Ok(c) = c else { continue };
         for (iy, cell) in c.cells.iter().enumerate() {
             if let Ok(cell) = cell {
-                regions[iy * xs.len() + ix] = Some(if cell.undetermined {
-                    4
-                } else if cell.coexistence.is_some() {
-                    3
-                } else {
-                    region(cell.state)
-                });
+                regions[iy * xs.len() + ix] = Some(region(cell.state));
             }
         }
     }
@@ -313,13 +356,13 @@ fn region_grid(p: &PhaseInputs) -> (Vec<f64>, Vec<f64>, Vec<Option<usize>>) {
 }
 
 /// One point per solved column at `t` (meV) where `on`, NaN elsewhere, so that separate
-/// stretches of a line are not joined.
+/// stretches of a line are not joined (figure only).
 fn column_line(
     d: &PhaseDiagram,
     on: impl Fn(&Column) -> bool,
     t: impl Fn(&Column) -> f64,
 ) -> Vec<(f64, f64)> {
-    solved_columns(d)
+    solved_columns(&d.columns)
         .into_iter()
         .map(|c| {
             let y = if on(c) { mev_to_kelvin(t(c)) } else { f64::NAN };
@@ -328,7 +371,8 @@ fn column_line(
         .collect()
 }
 
-/// The lines of the phase figure that have at least one finite point.
+/// The lines of the phase figure that have at least one finite point: the instability lines
+/// across the axis, the first-order line of each branch on its own (in the legend once).
 fn phase_series(d: &PhaseDiagram, lines: &PhaseLines) -> Vec<Series> {
     let uniform_line = |second_order: bool| {
         column_line(
@@ -356,21 +400,37 @@ fn phase_series(d: &PhaseDiagram, lines: &PhaseLines) -> Vec<Series> {
             dash: Dash::Solid,
             color: 1,
         },
-        Series {
-            label: "first order (equal Omega)".into(),
-            points: lines.first_order.clone(),
-            dash: Dash::Dashed,
-            color: 2,
-        },
     ];
+    series.extend(
+        lines
+            .branches
+            .iter()
+            .filter(|b| !b.first_order.is_empty())
+            .enumerate()
+            .map(|(i, b)| Series {
+                label: legend_once("first order (equal Omega)", i == 0),
+                points: b.first_order.clone(),
+                dash: Dash::Dashed,
+                color: 2,
+            }),
+    );
     series.retain(|s| s.points.iter().any(|p| p.1.is_finite()));
     series
 }
 
-/// The band between the first-order line and the uniform state's spinodal (both sorted by
-/// temperature), when both exist.
-fn metastable_band(lines: &PhaseLines) -> Option<Band> {
-    if lines.spinodal.is_empty() || lines.first_order.is_empty() {
+/// The legend text for the first of its kind, empty (no legend entry) for the others.
+fn legend_once(label: &str, first: bool) -> String {
+    if first {
+        label.into()
+    } else {
+        String::new()
+    }
+}
+
+/// The band between a branch's first-order line and its uniform state's spinodal (both sorted
+/// by temperature), when both exist.
+fn metastable_band(b: &BranchLines) -> Option<Band> {
+    if b.spinodal.is_empty() || b.first_order.is_empty() {
         return None;
     }
     let by_temperature = |l: &[(f64, f64)]| {
@@ -380,26 +440,35 @@ fn metastable_band(lines: &PhaseLines) -> Option<Band> {
     };
     Some(Band {
         label: "uniform metastable (first-order line to spinodal)".into(),
-        lower: by_temperature(&lines.first_order),
-        upper: by_temperature(&lines.spinodal),
+        lower: by_temperature(&b.first_order),
+        upper: by_temperature(&b.spinodal),
         color: 4,
     })
 }
 
-/// The tricritical and Lifshitz points, noting when they are off the phase boundary.
-fn special_markers(d: &PhaseDiagram) -> Vec<Marker> {
+/// The tricritical and Lifshitz points of every branch, noting when they are off the phase
+/// boundary; each kind (colour) in the legend once, and drawn with the shape of its first
+/// marker (see the region plot).
+fn special_markers(lines: &PhaseLines) -> Vec<Marker> {
     let marker = |p: &SpecialPoint, name: &str, off: &str, color: usize| Marker {
         label: format!("{name}{}", if p.on_boundary { "" } else { off }),
         x: p.value,
         y: mev_to_kelvin(p.t),
         color,
     };
-    let mut markers = Vec::new();
-    if let Some(p) = &d.tricritical {
-        markers.push(marker(p, "tricritical", " (preempted)", 3));
+    let mut markers: Vec<Marker> = Vec::new();
+    for b in &lines.branches {
+        if let Some(p) = &b.tricritical {
+            markers.push(marker(p, "tricritical", " (preempted)", 3));
+        }
+        if let Some(p) = &b.lifshitz {
+            markers.push(marker(p, "Lifshitz", " (off the boundary)", 5));
+        }
     }
-    if let Some(p) = &d.lifshitz {
-        markers.push(marker(p, "Lifshitz", " (off the boundary)", 5));
+    for i in 1..markers.len() {
+        if markers[..i].iter().any(|m| m.color == markers[i].color) {
+            markers[i].label.clear();
+        }
     }
     markers
 }

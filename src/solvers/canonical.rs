@@ -93,13 +93,38 @@ fn dirac_moment(x: f64, t: f64) -> f64 {
     t * t * val
 }
 
+/// Which phase (or mixture) holds the fixed density; serialised and printed in lower case
+/// ("normal", "uniform", "coexistence", "undetermined").
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum CanonicalKind {
+    /// The normal phase at its own chemical potential.
+    Normal,
+    /// The uniform ordered phase at its own chemical potential.
+    Uniform,
+    /// Normal + uniform, from the grand-canonical first-order jump (Maxwell construction).
+    Coexistence,
+    /// The normal phase is unstable at the fixed density but no single uniform phase has it:
+    /// phase separation between ordered states, not constructed here.
+    Undetermined,
+}
+
+impl std::fmt::Display for CanonicalKind {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            CanonicalKind::Normal => "normal",
+            CanonicalKind::Uniform => "uniform",
+            CanonicalKind::Coexistence => "coexistence",
+            CanonicalKind::Undetermined => "undetermined",
+        })
+    }
+}
+
 /// The canonical state at one temperature.
 #[derive(Debug, Clone, serde::Serialize)]
 pub struct CanonicalState {
-    /// "normal", "uniform", "coexistence" (normal + uniform, from the grand-canonical first-order
-    /// jump), or "undetermined" (the normal phase is unstable at the fixed density but no single
-    /// uniform phase has it: phase separation between ordered states, not constructed here).
-    pub state: String,
+    /// The phase holding the target density.
+    pub state: CanonicalKind,
     /// Chemical-potential shift of the single phase (meV, mu relative to the configuration's),
     /// or of the coexistence.
     pub mu_shift: f64,
@@ -169,9 +194,9 @@ impl Search<'_> {
     }
 
     /// A state at the target density.
-    fn state(&self, state: &str, s: f64, delta: f64) -> CanonicalState {
+    fn state(&self, state: CanonicalKind, s: f64, delta: f64) -> CanonicalState {
         CanonicalState {
-            state: state.into(),
+            state,
             mu_shift: -s,
             delta,
             ordered_fraction: None,
@@ -224,7 +249,7 @@ impl Search<'_> {
                 return Ok(Some(CanonicalState {
                     ordered_fraction: Some((self.target - nn) / (nu - nn)),
                     coexistence_densities: Some([nn, nu]),
-                    ..self.state("coexistence", sc, d)
+                    ..self.state(CanonicalKind::Coexistence, sc, d)
                 }));
             }
         }
@@ -257,7 +282,7 @@ impl Search<'_> {
             };
             if let (_, Some((_, d, omega))) = self.uniform_at(r.x)? {
                 if omega < 0.0 {
-                    return Ok(Some(self.state("uniform", r.x, d)));
+                    return Ok(Some(self.state(CanonicalKind::Uniform, r.x, d)));
                 }
             }
         }
@@ -304,10 +329,10 @@ pub fn canonical_state(
     // uniform state lies below it there and no uniform phase has the target density, the
     // ordered branch is not monotonic in density (negative compressibility): the system
     // separates into phases of different density, which this solver does not construct.
-    let mut best = search.state("normal", normal_shift, 0.0);
+    let mut best = search.state(CanonicalKind::Normal, normal_shift, 0.0);
     if let (_, Some((_, _, omega))) = search.uniform_at(normal_shift)? {
         if omega < 0.0 {
-            best.state = "undetermined".into();
+            best.state = CanonicalKind::Undetermined;
         }
     }
     Ok(best)

@@ -9,9 +9,9 @@ use super::legend::{
     band_entries, draw_legend_box, failed_entry, legend_size, marker_entries, series_entries,
     LegendEntry, Swatch,
 };
-use super::marks::{draw_all_series, draw_band, draw_markers};
+use super::marks::{draw_all_series, draw_band, draw_marker};
 use super::output::{DrawResult, Figure};
-use super::style::{region_color, PAD};
+use super::style::{line_color, region_color, PAD};
 use super::RegionPlot;
 use plotters::prelude::DrawingBackend;
 use plotters::style::text_anchor::HPos;
@@ -50,6 +50,24 @@ impl RegionPlot {
         entries.extend(band_entries(&self.bands));
         entries.extend(marker_entries(&self.markers, false));
         entries
+    }
+
+    /// The markers inside the frame; a marker takes the shape of the first marker of its colour
+    /// (markers of one kind, such as a special point on each side of a diagram, look alike and
+    /// share the legend entry of the first).
+    fn draw_markers<DB: DrawingBackend>(&self, c: &Canvas<'_, DB>, frame: &Frame) -> DrawResult {
+        for m in &self.markers {
+            if !frame.inside(m.x, m.y) {
+                continue;
+            }
+            let shape = self
+                .markers
+                .iter()
+                .position(|o| o.color == m.color)
+                .unwrap_or(0);
+            draw_marker(c, frame.map(m.x, m.y), shape, line_color(m.color), false)?;
+        }
+        Ok(())
     }
 
     /// The text labels inside the frame, each on a light box.
@@ -117,7 +135,7 @@ impl Figure for RegionPlot {
             draw_band(c, &frame, b)?;
         }
         draw_all_series(c, &frame, &self.series, false)?;
-        draw_markers(c, &frame, &self.markers, false)?;
+        self.draw_markers(c, &frame)?;
         self.draw_labels(c, &frame)?;
         draw_axes(c, &frame, &xt, &yt, &self.x_label, &self.y_label)?;
         if empty {
