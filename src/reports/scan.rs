@@ -140,7 +140,7 @@ fn scan_json(src: &ConfigSource, m: &Model, grid: &Grid, scan: &ScanResult) -> V
             .map(|a| json!({"path": a.path(), "from": a.from, "to": a.to, "n": a.n, "unit": key_unit(&a.key)}))
             .collect(),
     );
-    v["note"] = json!("the coupling given is held at every point (lambda given: lambda held, g re-derived there; g given: g held), as coupling_held per channel says; q* is known to fewer digits than Tc");
+    v["note"] = json!("g is fixed at the base configuration (lambda converted there) and held at every point, as coupling_held per channel says; q* is known to fewer digits than Tc");
     v["points"] = Value::Array(
         points
             .iter()

@@ -4,7 +4,6 @@
 //! columns (or a column and the nose of the uniform line) and refined in the parameter by
 //! Brent's method. See [`crate::theory::landau`].
 
-use crate::sweeps::lifshitz::lowest_curvature;
 use super::lines::ColumnResult;
 use super::{Column, SpecialPoint};
 use crate::error::{NestorError, NumericalError};
@@ -12,6 +11,7 @@ use crate::kernels::grand_potential::quartic_loop;
 use crate::kernels::Shell;
 use crate::solvers::roots::brent_root;
 use crate::solvers::{TcSolver, TcStatus};
+use crate::sweeps::lifshitz::lowest_curvature;
 use crate::sweeps::Sweep;
 use std::cell::RefCell;
 
