@@ -18,3 +18,7 @@ cp figures/map/phases_eh.svg figures/phases_eh.svg
   --set h.offset=6.05 --temperature 0.4 --fov 250 --out figures/map
 cp figures/map/pattern_eh.png figures/pattern_eh_heavy.png
 cp figures/map/pattern_eh.svg figures/pattern_eh_heavy.svg
+./target/release/nestor phases configs/reference/nested_parabolic.toml \
+  --vary h.offset=99.6:100.4:17 --temperatures 11 --uniform-only --out figures/nesting
+cp figures/nesting/phases_eh.png figures/phases_eh_nesting.png
+cp figures/nesting/phases_eh.svg figures/phases_eh_nesting.svg

@@ -63,21 +63,29 @@ impl SpecialSearch<'_> {
     }
 
     /// The bracket between the column `inside` on the uniform line and the nose of the line
-    /// towards the column `outside` (bisection); None when the bisection failed.
-    fn nose_bracket(&self, what: &str, start: f64, outside: f64) -> Option<(f64, f64)> {
+    /// towards the column `outside` (bisection). When deciding whether the line exists at a
+    /// bisection point fails, the bracket found so far (still on the line) is returned with the
+    /// failure, to be recorded if no point is found in it; a failure once the nose is located to
+    /// 1e-4 of the column spacing is not one (the bracket is then as good as resolved).
+    fn nose_bracket(&self, start: f64, outside: f64) -> ((f64, f64), Option<String>) {
+        let spacing = (outside - start).abs();
         let (mut inside, mut outside) = (start, outside);
+        let mut failure = None;
         for _ in 0..30 {
             let mid = 0.5 * (inside + outside);
             match self.has_uniform(mid) {
                 Ok(true) => inside = mid,
                 Ok(false) => outside = mid,
+                Err(_) if (outside - inside).abs() <= 1e-4 * spacing => break,
                 Err(e) => {
-                    self.fail(what, e.to_string());
-                    return None;
+                    failure = Some(format!(
+                        "the end of the uniform line between {inside} and {outside} was not resolved: {e}"
+                    ));
+                    break;
                 }
             }
         }
-        Some((start.min(inside), start.max(inside)))
+        ((start.min(inside), start.max(inside)), failure)
     }
 
     /// The quantity of `kind` at parameter x on the uniform line.
@@ -140,24 +148,24 @@ impl SpecialSearch<'_> {
             let (Ok(a), Ok(b)) = (&w[0], &w[1]) else {
                 continue;
             };
-            let (lo, hi) = match (kind.pick(a), kind.pick(b)) {
-                (Some(fa), Some(fb)) if fa.signum() != fb.signum() => (a.value, b.value),
+            let ((lo, hi), nose_failure) = match (kind.pick(a), kind.pick(b)) {
+                (Some(fa), Some(fb)) if fa.signum() != fb.signum() => ((a.value, b.value), None),
                 // The uniform line ends (its nose) between the two columns: the point may lie
                 // between the last column and the nose.
-                (Some(_), None) => match self.nose_bracket(what, a.value, b.value) {
-                    Some(r) => r,
-                    None => continue,
-                },
-                (None, Some(_)) => match self.nose_bracket(what, b.value, a.value) {
-                    Some(r) => r,
-                    None => continue,
-                },
+                (Some(_), None) => self.nose_bracket(a.value, b.value),
+                (None, Some(_)) => self.nose_bracket(b.value, a.value),
                 _ => continue,
             };
             let x = match brent_root(what, lo, hi, 1e-8, |x| self.value(kind, x)) {
                 Ok(r) => r.x,
-                // No sign change between a column and the nose of the uniform line: no point.
-                Err(NumericalError::NotBracketed { .. }) => continue,
+                // No sign change between a column and the nose of the uniform line: no point,
+                // unless the nose itself was not resolved (then the search is incomplete).
+                Err(NumericalError::NotBracketed { .. }) => {
+                    if let Some(f) = nose_failure {
+                        self.fail(what, f);
+                    }
+                    continue;
+                }
                 Err(e) => {
                     self.fail(what, e.to_string());
                     continue;
