@@ -29,9 +29,9 @@
 //! | nose of the uniform line | largest h = 1.0855 Tc0, at T = 0.48 Tc0 | same (mpmath `findroot` on a grid of T) |
 //! | preferred structure along the modulated line as T falls | stripe, then triangle, square, hexagon | Shimahara, J. Phys. Soc. Jpn. 67, 1872 (1998) |
 //! | standing wave against plane wave near the modulated line | the standing wave has the smaller positive quartic coefficient per n^2 | Larkin and Ovchinnikov, Sov. Phys. JETP 20, 762 (1965), for the same comparison in three dimensions |
-//! | BCS density of states, broadening | N(E) = 2 nu abs(E - h)/sqrt((E - h)^2 - Delta^2); Dynes form E -> E + i Gamma | Dynes, Narayanamurti, Garno, Phys. Rev. Lett. 41, 1509 (1978) |
-//! | two-dimensional transition | k_B T_KT = (pi/2) J(T_KT) | Nelson and Kosterlitz, Phys. Rev. Lett. 39, 1201 (1977) |
-//! | gapless branch and phase stiffness | a negative stiffness eigenvalue on the gapless branch | Wu and Yip, Phys. Rev. A 67, 053603 (2003) |
+//! | (not computed yet) BCS density of states, broadening | N(E) = 2 nu abs(E - h)/sqrt((E - h)^2 - Delta^2); Dynes form E -> E + i Gamma | Dynes, Narayanamurti, Garno, Phys. Rev. Lett. 41, 1509 (1978) |
+//! | (not computed yet) two-dimensional transition | k_B T_KT = (pi/2) J(T_KT) | Nelson and Kosterlitz, Phys. Rev. Lett. 39, 1201 (1977) |
+//! | (not computed yet) gapless branch and phase stiffness | a negative stiffness eigenvalue on the gapless branch | Wu and Yip, Phys. Rev. A 67, 053603 (2003) |
 //!
 //! # How the tests use the table
 //!

@@ -40,6 +40,8 @@
 //!
 //! # Phase stiffness
 //!
+//! Not computed by the crate yet (the definition that a stiffness output will follow).
+//!
 //! Writing Delta(r) = |Delta| exp(i phi(r)), Omega per area costs (J/2) |grad phi|^2, so
 //!
 //! ```text

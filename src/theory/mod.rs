@@ -24,8 +24,8 @@
 //!
 //! - **Mean field.** The electron-hole interaction is decoupled in the pairing channel only; the
 //!   order parameter is a classical field and its fluctuations are left out. In two dimensions
-//!   the mean-field Tc is therefore an upper bound on the true transition (see
-//!   [`patterns`] for the Kosterlitz-Thouless estimate).
+//!   the mean-field Tc is therefore an upper bound on the true transition (the
+//!   Kosterlitz-Thouless temperature of [`patterns`] is defined there but not computed yet).
 //! - **Contact coupling in a shell.** The interaction is a constant g acting only between states
 //!   whose shell variable lies within the cutoff, |xi_k| < Lambda; Lambda stands in for the
 //!   energy range over which the real interaction is attractive and unscreened.

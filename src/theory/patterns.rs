@@ -59,6 +59,9 @@
 //!
 //! # What a tunnelling probe measures
 //!
+//! Not computed by the crate yet: this section and the next state the definitions that the
+//! tunnelling and two-dimensional-transition outputs will follow.
+//!
 //! - Local density of states of a mean-field state with eigenpairs (E_n, psi_n(r)):
 //!   N(r, E) = sum_n |psi_n(r)|^2 delta(E - E_n), per spin channel, times n_s. For a uniform state
 //!   with constant pair density of states nu, E = h +- sqrt(xi^2 + Delta^2), and the shell average
