@@ -99,8 +99,13 @@ fn a_scan_point_is_tc_at_the_held_coupling() {
 }
 
 /// A curve through perfect nesting has a Lifshitz point on each side, where the q^2 coefficient
-/// of 1/g - chi vanishes on the uniform line (h.offset = 99.777 and 100.223 meV, T = 0.677 K, as
-/// `phases` finds). The old scan reported one interval midpoint per curve, 99.7875 meV at an
+/// of 1/g - chi vanishes on the uniform line. Reference, independent of the code: in weak
+/// coupling the Lifshitz point coincides with the tricritical point, h = 1.0728 Tc0 at
+/// T = 0.5615 Tc0 (Sarma 1963; Buzdin and Kachkachi 1997, cited from memory), with
+/// Tc0 = 1.1339 x 5 meV x e^-4 = 0.10384 meV = 1.205 K and h = (h.offset - 100)/2 here: h.offset
+/// = 100 -+ 0.2228 meV, T = 0.6766 K. The tolerance 1e-3 is twice the band-curvature separation
+/// of the two points at cutoff/E_F = 0.05 (about 4e-4 in T/Tc0) and ten times below the old
+/// error. The old scan reported one interval midpoint per curve, 99.7875 meV at an
 /// interpolated 0.7562 K.
 #[test]
 fn every_lifshitz_point_of_a_curve_is_found() {

@@ -11,7 +11,7 @@ use crate::kernels::grand_potential::quartic_loop;
 use crate::kernels::Shell;
 use crate::solvers::roots::brent_root;
 use crate::solvers::{TcSolver, TcStatus};
-use crate::sweeps::lifshitz::lowest_curvature;
+use crate::sweeps::lifshitz::{lowest_curvature, uniform_line_at};
 use crate::sweeps::Sweep;
 use std::cell::RefCell;
 
@@ -90,31 +90,13 @@ impl SpecialSearch<'_> {
 
     /// The quantity of `kind` at parameter x on the uniform line.
     fn value(&self, kind: Special, x: f64) -> Result<f64, NumericalError> {
-        let what = kind.what();
-        let m = self
-            .sweep
-            .model_along(x)
-            .map_err(|reason| NumericalError::Stopped {
-                what: what.to_string(),
-                at: x,
-                reason,
-            })?;
+        let (m, t) = uniform_line_at(self.sweep, self.channel, self.tc, x, kind.what())?;
         let ch = &m.channels()[self.channel];
-        let u = self.tc.uniform(&m, ch)?;
-        if u.status != TcStatus::Unstable {
-            return Err(NumericalError::NoUniformInstability {
-                what: what.to_string(),
-                at: x,
-            });
-        }
         match kind {
             Special::Tricritical => {
-                Ok(
-                    quartic_loop(&Shell::for_channel(&m, ch, [0.0, 0.0])?, u.tc, &self.tc.acc)?
-                        .value,
-                )
+                Ok(quartic_loop(&Shell::for_channel(&m, ch, [0.0, 0.0])?, t, &self.tc.acc)?.value)
             }
-            Special::Lifshitz => lowest_curvature(self.tc, &m, ch, u.tc),
+            Special::Lifshitz => lowest_curvature(self.tc, &m, ch, t),
         }
     }
 
