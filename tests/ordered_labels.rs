@@ -43,8 +43,12 @@ fn solve_json(args: &[&str]) -> Value {
     v["channels"][0].clone()
 }
 
-/// Below the modulated Tc (0.1676 K at h = 0.3 meV) the normal state is unstable at q*: the old
-/// label was "metastable" (only g chi(0, T) < 1 was looked at).
+/// Below the modulated Tc the normal state is unstable at q*: the old label was "metastable"
+/// (only g chi(0, T) < 1 was looked at). Independent reference: h.offset = 100.3 is the mismatch
+/// h = 0.15 meV = 1.44 Tc0 (Tc0 = 0.10384 meV), and T = 0.1 K = 0.083 Tc0; the weak-coupling
+/// modulated line (digamma equation solved with mpmath, `theory::checks`) lies at h = 1.3519 Tc0
+/// for T = 0.2 Tc0 and 1.6189 Tc0 for T = 0.05 Tc0, so the point is inside the modulated region
+/// and outside the uniform one (the uniform line ends below h = 1.0855 Tc0).
 #[test]
 fn normal_state_below_the_modulated_tc_is_unstable() {
     let c = solve_json(&["--set", "h.offset=100.3", "--temperature", "0.1"]);
