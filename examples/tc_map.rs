@@ -17,7 +17,7 @@ use nestor::model::{
     ChannelSpec, CouplingInput, DispersionSpec, Model, Param, PocketKind, PocketSpec, SpinMatrix,
     SpinSpec,
 };
-use nestor::solvers::tc::TcSolver;
+use nestor::solvers::tc::{TcReport, TcSolver, TcStatus};
 use nestor::units::mev_to_kelvin;
 
 /// A spin-degenerate circular parabolic pocket at the zone centre.
@@ -53,13 +53,14 @@ fn reference_pair() -> Result<Model, NestorError> {
 }
 
 /// Uniform and modulated Tc (meV) of the pair with mismatch `h` and cutoff `cutoff` (both meV),
-/// lambda = 0.25 (converted to g at the point).
+/// lambda = 0.25 (converted to g at the point); None where there is no instability above the
+/// temperature floor.
 fn tc_pair(
     base: &Model,
     solver: &TcSolver,
     h: f64,
     cutoff: f64,
-) -> Result<(f64, f64), NestorError> {
+) -> Result<(Option<f64>, Option<f64>), NestorError> {
     let model = base.with(&[
         (Param::Offset { pocket: 0 }, -100.0 + h),
         (Param::Offset { pocket: 1 }, 100.0 + h),
@@ -69,7 +70,8 @@ fn tc_pair(
     let channel = &model.channels()[0];
     let uniform = solver.uniform(&model, channel)?;
     let modulated = solver.modulated(&model, channel, &uniform)?;
-    Ok((uniform.tc, modulated.tc.tc))
+    let found = |r: &TcReport| (r.status == TcStatus::Unstable).then_some(r.tc);
+    Ok((found(&uniform), found(&modulated.tc)))
 }
 
 fn main() -> Result<(), NestorError> {
@@ -92,14 +94,13 @@ fn main() -> Result<(), NestorError> {
         for cutoff in cutoffs {
             let (uniform, modulated) = tc_pair(&base, &solver, h, cutoff)?;
             let mark = if modulated > uniform { "*" } else { " " };
-            print!(
-                "  {:>10.4} {:>10.4}{mark}",
-                mev_to_kelvin(uniform),
-                mev_to_kelvin(modulated)
-            );
+            let kelvin =
+                |t: Option<f64>| t.map_or("none".into(), |t| format!("{:.4}", mev_to_kelvin(t)));
+            print!("  {:>10} {:>10}{mark}", kelvin(uniform), kelvin(modulated));
         }
         println!();
     }
     println!("* the modulated (q != 0) instability sets in above the uniform one");
+    println!("none: no instability above the temperature floor");
     Ok(())
 }
